@@ -37,12 +37,9 @@ type command struct {
 	run     func(args []string, stdout, stderr io.Writer) error
 }
 
-var commands []command
-
-func init() {
-	commands = []command{
-		{"inspect", "list the series in CSV files: name, unit, resolution, span, count, missing", runInspect},
-	}
+// commands lists the subcommands; other files append theirs in init.
+var commands = []command{
+	{"inspect", "list the series in CSV files: name, unit, resolution, span, count, missing", runInspect},
 }
 
 func main() {

@@ -30,3 +30,25 @@ func TestInspect(t *testing.T) {
 		t.Errorf("warnings %v", rep.Warnings)
 	}
 }
+
+func TestWorkspaceFind(t *testing.T) {
+	w := NewWorkspace([]File{
+		{"dir/a.csv", []byte("year,x,y\n1990,1,2\n")},
+		{"b.csv", []byte("year,x\n1990,3\n")},
+	}, series.Options{})
+	if s, err := w.Find("y"); err != nil || s.Values[0] != 2 {
+		t.Errorf("y: %v %v", s, err)
+	}
+	if _, err := w.Find("x"); err == nil || !strings.Contains(err.Error(), "several files") {
+		t.Errorf("ambiguous x: %v", err)
+	}
+	if s, err := w.Find("b.csv:x"); err != nil || s.Values[0] != 3 {
+		t.Errorf("b.csv:x: %v %v", s, err)
+	}
+	if s, err := w.Find("a.csv:x"); err != nil || s.Values[0] != 1 {
+		t.Errorf("a.csv:x by base name: %v %v", s, err)
+	}
+	if _, err := w.Find("z"); err == nil || !strings.Contains(err.Error(), "x, x, y") {
+		t.Errorf("missing z: %v", err)
+	}
+}
