@@ -237,7 +237,7 @@ func runInspect(args []string, stdout, stderr io.Writer) error {
 	if *asJSON {
 		out := struct {
 			Series   []analysis.SeriesSummary `json:"series"`
-			Warnings []string                `json:"warnings"`
+			Warnings []string                 `json:"warnings"`
 		}{rep.Series, rep.Warnings}
 		enc := json.NewEncoder(stdout)
 		enc.SetIndent("", "  ")
