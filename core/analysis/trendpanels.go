@@ -142,5 +142,5 @@ func BreaksTable(r *trend.BreaksResult) Table {
 func SenTable(r *trend.SenResult) Table {
 	return Table{Title: "Theil-Sen slope and Mann-Kendall test",
 		Columns: []string{"Sen slope per decade", fmt.Sprintf("%g%% low", 100*r.Level), fmt.Sprintf("%g%% high", 100*r.Level), "S", "variance of S", "Z", "p", "Kendall's tau", "correction"},
-		Rows: [][]string{{Fmt(r.SenSlopePerDecade), Fmt(r.CILowPerDecade), Fmt(r.CIHighPerDecade), strconv.Itoa(r.S), Fmt(r.VarS), Fmt(r.Z), FmtP(r.PValue), Fmt(r.Tau), r.Correction}}}
+		Rows:    [][]string{{Fmt(r.SenSlopePerDecade), Fmt(r.CILowPerDecade), Fmt(r.CIHighPerDecade), strconv.Itoa(r.S), Fmt(r.VarS), Fmt(r.Z), FmtP(r.PValue), Fmt(r.Tau), r.Correction}}}
 }

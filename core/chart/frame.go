@@ -3,6 +3,7 @@ package chart
 import (
 	"math"
 	"strconv"
+	"unicode/utf8"
 )
 
 // Default and limiting chart sizes in SVG user units (pixels).
@@ -19,6 +20,7 @@ const (
 	fontTick   = 12.0
 	fontLabel  = 13.0
 	fontTitle  = 15.0
+	fontNote   = 11.0
 	rowH       = 18.0 // legend row height
 	swatchW    = 22.0 // legend swatch width
 	swatchGap  = 6.0  // swatch to text
@@ -34,7 +36,8 @@ type swatch int
 
 const (
 	swatchLine swatch = iota // a short stroke (lines)
-	swatchArea               // a filled box (bands; later bars, histogram)
+	swatchArea               // a filled box (bands, bars, histogram)
+	swatchDot                // a small dot (heatmap marks)
 )
 
 // legendEntry is one named item in the legend.
@@ -65,6 +68,14 @@ type frameSpec struct {
 	empty                 bool    // no finite data at all
 	xlo, xhi, ylo, yhi    float64 // data domain, lo < hi (ignored if empty)
 	yZero                 bool
+	xZero                 bool // a vertical x = 0 reference line (horizontal bars)
+
+	// Optional parts used by some chart types.
+	legendAbove  bool     // legend in rows above the plot even when there is room on the right
+	keyW         float64  // width reserved right of the plot for a chart's own key (heatmap colour bar); keyX gives its left edge
+	xCats, yCats []string // categorical axis: categories at i+0.5 (x, left to right) or n-i-0.5 (y, top to bottom) of [0,n]; no grid lines
+	yInt         bool     // only whole-number y ticks (counts)
+	note         string   // a line of small text under the chart (e.g. what was left out)
 }
 
 // axisScale maps data values onto a pixel interval.
@@ -97,6 +108,9 @@ type frame struct {
 	xs, ys       axisScale
 	xt, yt       []float64
 	xl, yl       []string
+	xfull, yfull []string // unclipped category labels (nil for numeric axes)
+	keyX         float64
+	noteShown    string
 	legendRight  bool
 	titleShown   string
 	xlabelShown  string
@@ -132,6 +146,10 @@ func layout(sp frameSpec) *frame {
 	if sp.xlabel != "" {
 		bottom += fontLabel + 6
 	}
+	if sp.note != "" {
+		f.noteShown = clip(sp.note, charsFitting(f.W-2*edge, fontNote))
+		bottom += fontNote + 6
+	}
 	right := edge + 6
 
 	// legend
@@ -146,7 +164,7 @@ func layout(sp frameSpec) *frame {
 		}
 		legW := swatchW + swatchGap + widest
 		need := float64(len(f.legend)) * rowH
-		if f.W >= 480 && need <= f.H-top-bottom {
+		if !sp.legendAbove && f.W >= 480 && need <= f.H-top-bottom {
 			f.legendRight = true
 			x := f.W - edge - legW
 			for i := range f.legend {
@@ -174,6 +192,10 @@ func layout(sp frameSpec) *frame {
 		}
 	}
 
+	if sp.keyW > 0 {
+		right += sp.keyW
+	}
+
 	f.T = top
 	f.PH = math.Max(minPlot, f.H-top-bottom)
 
@@ -183,9 +205,16 @@ func layout(sp frameSpec) *frame {
 		left += fontLabel + 8
 		f.ylabelShown = clip(sp.ylabel, charsFitting(f.PH, fontLabel))
 	}
-	if !sp.empty {
+	if !sp.empty && len(sp.yCats) > 0 {
+		f.yt, f.yl, f.yfull = catTicks(sp.yCats, f.PH, true, f.W*0.3)
+	} else if !sp.empty {
 		n := clampInt(int(f.PH/45), 2, 8)
 		f.yt, f.yl = ticksWithin(sp.ylo, sp.yhi, n)
+		if sp.yInt {
+			f.yt, f.yl = wholeTicks(f.yt, f.yl)
+		}
+	}
+	if !sp.empty {
 		widest := 0.0
 		for _, s := range f.yl {
 			widest = math.Max(widest, textWidth(s, fontTick))
@@ -197,7 +226,10 @@ func layout(sp frameSpec) *frame {
 	if sp.xlabel != "" {
 		f.xlabelShown = clip(sp.xlabel, charsFitting(f.PW, fontLabel))
 	}
-	if !sp.empty {
+	f.keyX = f.L + f.PW + 12
+	if !sp.empty && len(sp.xCats) > 0 {
+		f.xt, f.xl, f.xfull = catTicks(sp.xCats, f.PW, false, 0)
+	} else if !sp.empty {
 		n := clampInt(int(f.PW/80), 2, 12)
 		f.xt, f.xl = ticksWithin(sp.xlo, sp.xhi, n)
 		// drop x labels that would collide with their neighbour
@@ -302,7 +334,7 @@ func (f *frame) open(b *svgBuf) {
 	b.raw(` stroke-width="1">`)
 	for _, v := range f.yt {
 		y := f.ys.at(v)
-		if !finite(y) {
+		if !finite(y) || f.yfull != nil {
 			continue
 		}
 		b.raw("<line")
@@ -314,7 +346,7 @@ func (f *frame) open(b *svgBuf) {
 	}
 	for _, v := range f.xt {
 		x := f.xs.at(v)
-		if !finite(x) {
+		if !finite(x) || f.xfull != nil {
 			continue
 		}
 		b.raw("<line")
@@ -327,22 +359,34 @@ func (f *frame) open(b *svgBuf) {
 	b.raw("</g>")
 }
 
-// zeroLine draws the y = 0 reference when asked for and inside the range.
+// zeroLine draws the y = 0 (and, when asked, x = 0) reference when asked
+// for and inside the range.
 func (f *frame) zeroLine(b *svgBuf) {
-	if f.empty || !f.yZero || !(f.ylo < 0 && f.yhi > 0) {
+	if f.empty {
 		return
 	}
-	y := f.ys.at(0)
-	if !finite(y) {
-		return
+	if f.yZero && f.ylo < 0 && f.yhi > 0 {
+		if y := f.ys.at(0); finite(y) {
+			b.raw(`<line class="hl-zero"`)
+			b.num("x1", f.L)
+			b.num("y1", y)
+			b.num("x2", f.L+f.PW)
+			b.num("y2", y)
+			b.attr("stroke", inkZero)
+			b.raw(` stroke-width="1"/>`)
+		}
 	}
-	b.raw(`<line class="hl-zero"`)
-	b.num("x1", f.L)
-	b.num("y1", y)
-	b.num("x2", f.L+f.PW)
-	b.num("y2", y)
-	b.attr("stroke", inkZero)
-	b.raw(` stroke-width="1"/>`)
+	if f.xZero && f.xlo < 0 && f.xhi > 0 {
+		if x := f.xs.at(0); finite(x) {
+			b.raw(`<line class="hl-zero"`)
+			b.num("x1", x)
+			b.num("y1", f.T)
+			b.num("x2", x)
+			b.num("y2", f.T+f.PH)
+			b.attr("stroke", inkZero)
+			b.raw(` stroke-width="1"/>`)
+		}
+	}
 }
 
 // close writes the plot frame, ticks, labels, legend, the no-data note and
@@ -378,9 +422,13 @@ func (f *frame) close(b *svgBuf) {
 		b.raw("</text>")
 	}
 	if f.xlabelShown != "" {
+		y := f.H - edge + 2
+		if f.noteShown != "" {
+			y -= fontNote + 6
+		}
 		b.raw(`<text class="hl-xlabel" text-anchor="middle"`)
 		b.num("x", f.L+f.PW/2)
-		b.num("y", f.H-edge+2)
+		b.num("y", y)
 		b.num("font-size", fontLabel)
 		b.attr("fill", inkText)
 		b.byte('>')
@@ -401,6 +449,21 @@ func (f *frame) close(b *svgBuf) {
 		b.attr("fill", inkText)
 		b.byte('>')
 		b.text(f.ylabelShown)
+		b.raw("</text>")
+	}
+	if f.noteShown != "" {
+		b.raw(`<text class="hl-note"`)
+		b.num("x", edge)
+		b.num("y", f.H-edge+1)
+		b.num("font-size", fontNote)
+		b.attr("fill", inkText)
+		b.byte('>')
+		if f.noteShown != f.note {
+			b.raw("<title>")
+			b.text(f.note)
+			b.raw("</title>")
+		}
+		b.text(f.noteShown)
 		b.raw("</text>")
 	}
 	f.drawLegend(b)
@@ -454,6 +517,11 @@ func (f *frame) axisTicks(b *svgBuf) {
 		b.num("x", x)
 		b.num("y", y0+tickLen+fontTick)
 		b.byte('>')
+		if f.xfull != nil && f.xfull[i] != f.xl[i] {
+			b.raw("<title>")
+			b.text(f.xfull[i])
+			b.raw("</title>")
+		}
 		b.text(f.xl[i])
 		b.raw("</text>")
 	}
@@ -466,6 +534,11 @@ func (f *frame) axisTicks(b *svgBuf) {
 		b.num("x", f.L-tickLen-3)
 		b.num("y", y+4)
 		b.byte('>')
+		if f.yfull != nil && f.yfull[i] != f.yl[i] {
+			b.raw("<title>")
+			b.text(f.yfull[i])
+			b.raw("</title>")
+		}
 		b.text(f.yl[i])
 		b.raw("</text>")
 	}
@@ -487,6 +560,13 @@ func (f *frame) drawLegend(b *svgBuf) {
 			b.raw("</title>")
 		}
 		switch e.kind {
+		case swatchDot:
+			b.raw(`<circle class="hl-swatch"`)
+			b.num("cx", e.x+swatchW/2)
+			b.num("cy", e.y)
+			b.num("r", 3)
+			b.attr("fill", e.color)
+			b.raw("/>")
 		case swatchArea:
 			b.raw(`<rect class="hl-swatch"`)
 			b.num("x", e.x)
@@ -518,4 +598,59 @@ func (f *frame) drawLegend(b *svgBuf) {
 		b.raw("</text></g>")
 	}
 	b.raw("</g>")
+}
+
+// catTicks places category labels on an axis of length lenPx: at i+0.5
+// along x, or at n-i-0.5 along y (so the first category is at the top).
+// Labels are clipped to the room they have (along y to maxW pixels), and
+// when the bands are too narrow only every 2nd, 3rd ... label is kept. full
+// holds the unclipped labels of the kept ticks.
+func catTicks(cats []string, lenPx float64, vertical bool, maxW float64) (t []float64, l, full []string) {
+	n := len(cats)
+	if n == 0 {
+		return nil, nil, nil
+	}
+	band := lenPx / float64(n)
+	longest := 0
+	for _, c := range cats {
+		longest = max(longest, utf8.RuneCountInString(c))
+	}
+	every, chars := 1, 1
+	for ; ; every++ {
+		room := band * float64(every)
+		if vertical {
+			chars = charsFitting(maxW, fontTick)
+			if room >= fontTick+2 || every >= n {
+				break
+			}
+		} else {
+			chars = charsFitting(room-6, fontTick)
+			if chars >= min(4, longest) || every >= n {
+				break
+			}
+		}
+	}
+	for i := 0; i < n; i += every {
+		pos := float64(i) + 0.5
+		if vertical {
+			pos = float64(n-i) - 0.5
+		}
+		t = append(t, pos)
+		l = append(l, clip(cats[i], chars))
+		full = append(full, cats[i])
+	}
+	return t, l, full
+}
+
+// wholeTicks keeps the ticks that are whole numbers.
+func wholeTicks(t []float64, l []string) ([]float64, []string) {
+	var t2 []float64
+	var l2 []string
+	for i, v := range t {
+		if v == math.Trunc(v) {
+			t2 = append(t2, v)
+			l2 = append(l2, l[i])
+		}
+	}
+	return t2, l2
 }
