@@ -144,3 +144,72 @@ func SenTable(r *trend.SenResult) Table {
 		Columns: []string{"Sen slope per decade", fmt.Sprintf("%g%% low", 100*r.Level), fmt.Sprintf("%g%% high", 100*r.Level), "S", "variance of S", "Z", "p", "Kendall's tau", "correction"},
 		Rows:    [][]string{{Fmt(r.SenSlopePerDecade), Fmt(r.CILowPerDecade), Fmt(r.CIHighPerDecade), strconv.Itoa(r.S), Fmt(r.VarS), Fmt(r.Z), FmtP(r.PValue), Fmt(r.Tau), r.Correction}}}
 }
+
+// GridView is the trend grid as the page shows it: a heatmap of the slope
+// over every window (start on x, end on y) with significant cells marked,
+// plus the counts that put the scan in proportion.
+type GridView struct {
+	Result  *trend.GridResult `json:"result"`
+	SVG     string            `json:"-"`
+	Summary string            `json:"summary"`
+}
+
+// GridKeySep separates the start and end labels in a heatmap cell's key.
+const GridKeySep = "|"
+
+// GridFigure computes the grid and draws it. mark is "zero" (cells whose
+// interval excludes a zero trend are marked) or "full" (cells whose
+// interval excludes the full-record trend). Each cell's key is
+// "FROM|TO" (YYYY-MM or YYYY), so a click can set the trend window.
+func (w *Workspace) GridFigure(s GridSettings, mark string) (*GridView, error) {
+	g, err := w.Grid(s)
+	if err != nil {
+		return nil, err
+	}
+	ser, _ := w.Find(s.Series)
+	unit := "units"
+	if ser.Unit != "" {
+		unit = ser.Unit
+	}
+	h := chart.Heatmap{
+		Title:      fmt.Sprintf("%s: trend over every window of at least %g years (%s noise)", ser.Name, g.MinYears, noiseTitle(g.Noise)),
+		XLabel:     "Window start (year)",
+		YLabel:     "Window end (year)",
+		ValueLabel: "Trend (" + unit + " per decade)",
+	}
+	switch mark {
+	case "", "zero":
+		h.MarkLabel = fmt.Sprintf("%g%% interval excludes zero", 100*g.Level)
+	case "full":
+		h.MarkLabel = fmt.Sprintf("%g%% interval excludes the full-record trend", 100*g.Level)
+	default:
+		return nil, fmt.Errorf("grid mark %q: expected zero or full", mark)
+	}
+	step := 1.0
+	if s.Step == trend.GridStepMonth {
+		step = 1.0 / 12
+	}
+	h.CellW, h.CellH = step, step
+	for _, c := range g.Windows {
+		if c.Skipped {
+			continue
+		}
+		from, to := g.Labels[c.StartIndex], g.Labels[c.EndIndex]
+		m := c.ExcludesZero
+		if mark == "full" {
+			m = c.ExcludesFull
+		}
+		x, y := c.Start, c.End
+		if s.Step != trend.GridStepMonth && ser.Resolution == series.Monthly {
+			// a January-to-December window sits at its start and end years
+			x, y = math.Floor(c.Start)+0.5, math.Floor(c.End)+0.5
+		}
+		h.Cells = append(h.Cells, chart.HeatCell{X: x, Y: y, Value: c.SlopePerDecade, Marked: m,
+			Title: fmt.Sprintf("%s to %s: %s %s per decade (standard error %s, n %d)", from, to, Fmt(c.SlopePerDecade), unit, Fmt(c.StderrPerDecade), c.N),
+			Key:   from + GridKeySep + to})
+	}
+	v := &GridView{Result: g, SVG: h.SVG()}
+	v.Summary = fmt.Sprintf("%d windows; %d exclude the full-record trend at the %g%% level, about %.0f would by chance alone if the rate never changed. Neighbouring windows overlap, so they are far from independent: choosing the most striking window after looking is a multiple-testing trap.",
+		g.Cells, g.ExcludingFullTrend, 100*g.Level, g.ExpectedByChance)
+	return v, nil
+}

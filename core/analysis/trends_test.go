@@ -150,3 +150,22 @@ func TestComparePanels(t *testing.T) {
 		t.Errorf("breaks table %v", bt.Rows)
 	}
 }
+
+func TestGridFigure(t *testing.T) {
+	w := demoWorkspace(t)
+	v, err := w.GridFigure(GridSettings{Series: "surface_anomaly", MinYears: 20, Noise: "arma11"}, "full")
+	if err != nil {
+		t.Fatal(err)
+	}
+	// 76 years, windows of at least 20 years at annual steps: sum over
+	// lengths 20..76 of (77 - L) = 57*58/2 = 1653 windows
+	if v.Result.Cells != 1653 {
+		t.Errorf("cells %d, want 1653", v.Result.Cells)
+	}
+	if !strings.Contains(v.SVG, `data-key="1950-01|1969-12"`) || !strings.Contains(v.SVG, "excludes the full-record trend") {
+		t.Errorf("heatmap lacks a key or the mark legend")
+	}
+	if _, err := w.GridFigure(GridSettings{Series: "surface_anomaly"}, "other"); err == nil {
+		t.Error("bad mark accepted")
+	}
+}

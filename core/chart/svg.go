@@ -13,9 +13,16 @@
 // that XML forbids are replaced by U+FFFD, so any input gives a well-formed
 // document.
 //
+// Chart types: Lines (lines over shaded bands), Heatmap (cells on a
+// diverging colour scale with a colour bar, e.g. the trend grid), Bars
+// (grouped or stacked, vertical or horizontal, with error bars) and
+// Histogram (binned draws with reference marks and interval bars).
+//
 // Elements carry class attributes with the prefix "hl-" so a page can style
 // them and browser tests can find them; data elements also carry
-// data-series="NAME".
+// data-series="NAME" (bars also data-category="CATEGORY", heatmap cells
+// data-key="KEY" for mapping a click back to the caller's cell). Hover text
+// is a <title> child of the element it describes.
 package chart
 
 import (

@@ -1,0 +1,136 @@
+package ui
+
+import (
+	"encoding/json"
+	"fmt"
+	"strings"
+	"time"
+
+	"heatledger/core/analysis"
+)
+
+// SeriesRef names a series for the analysis views: Ref is "FILE:NAME", the
+// form core/analysis finds without ambiguity; Label is what the page shows.
+type SeriesRef struct {
+	Ref   string
+	Label string
+	Name  string
+	Unit  string
+}
+
+// Analysis is the workspace as core/analysis sees it: the files read, with
+// their series. The analysis views go through it and nothing else.
+func (w *Workspace) Analysis() *analysis.Workspace {
+	aw := &analysis.Workspace{}
+	for _, f := range w.Files {
+		aw.Files = append(aw.Files, analysis.Loaded{File: f.Name, Result: f.Result, Err: f.Err})
+	}
+	return aw
+}
+
+// SeriesRefs lists every series read, in file order.
+func (w *Workspace) SeriesRefs() []SeriesRef {
+	var out []SeriesRef
+	names := map[string]int{}
+	for _, f := range w.Files {
+		if f.Result == nil {
+			continue
+		}
+		for _, s := range f.Result.Series {
+			names[s.Name]++
+		}
+	}
+	for _, f := range w.Files {
+		if f.Result == nil {
+			continue
+		}
+		for _, s := range f.Result.Series {
+			label := s.Name
+			if names[s.Name] > 1 {
+				label += " · " + f.Name
+			}
+			if s.Unit != "" {
+				label += " (" + s.Unit + ")"
+			}
+			out = append(out, SeriesRef{Ref: f.Name + ":" + s.Name, Label: label, Name: s.Name, Unit: s.Unit})
+		}
+	}
+	return out
+}
+
+// Exporter is what a Host offers for getting results out of the page:
+// downloads and the clipboard. The wasm host implements it.
+type Exporter interface {
+	// Save offers data as a download named name.
+	Save(name, mime string, data []byte)
+	// Copy puts text on the clipboard.
+	Copy(text string)
+}
+
+// Yielder is a Host that can hand control back to the browser: Yield
+// returns once the browser has run its event loop (drawn, taken input).
+type Yielder interface{ Yield() }
+
+// Yield lets the browser run before long work goes on. A goroutine doing
+// long work calls it every few tens of milliseconds; a short sleep would
+// not do, because its timer may expire while the page renders and the
+// browser would never get a turn.
+func (w *Workspace) Yield() {
+	if y, ok := w.Host.(Yielder); ok {
+		y.Yield()
+		return
+	}
+	time.Sleep(time.Millisecond)
+}
+
+// Save offers a download through the host, or says why it cannot.
+func (w *Workspace) Save(name, mime string, data []byte) {
+	ex, ok := w.Host.(Exporter)
+	if !ok {
+		panic(fmt.Errorf("this page cannot offer downloads here"))
+	}
+	ex.Save(name, mime, data)
+}
+
+// Copy puts text on the clipboard through the host.
+func (w *Workspace) Copy(text string) {
+	ex, ok := w.Host.(Exporter)
+	if !ok {
+		panic(fmt.Errorf("this page cannot reach the clipboard here"))
+	}
+	ex.Copy(text)
+}
+
+// fileStem makes a safe download name from free text.
+func fileStem(s string) string {
+	var b strings.Builder
+	for _, r := range strings.ToLower(s) {
+		switch {
+		case r >= 'a' && r <= 'z', r >= '0' && r <= '9':
+			b.WriteRune(r)
+		case r == '-' || r == '_' || r == '.':
+			b.WriteRune(r)
+		default:
+			b.WriteRune('-')
+		}
+	}
+	out := strings.Trim(b.String(), "-.")
+	for strings.Contains(out, "--") {
+		out = strings.ReplaceAll(out, "--", "-")
+	}
+	if out == "" {
+		return "heatledger"
+	}
+	if len(out) > 60 {
+		out = out[:60]
+	}
+	return out
+}
+
+func jsonBytes(v any) []byte {
+	b, err := json.MarshalIndent(v, "", "  ")
+	if err != nil {
+		panic(err)
+	}
+	return append(b, '\n')
+}

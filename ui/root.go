@@ -1,0 +1,90 @@
+package ui
+
+import "github.com/vugu/vugu"
+
+// View is one entry of the view switcher. Only views listed by Views appear
+// there, so a view that does not work yet is never shown; adding a view is
+// one entry.
+type View struct {
+	ID    string // short name, used in element ids
+	Title string // switcher label
+	Hint  string // tooltip
+	// Make builds the view's component for a workspace.
+	Make func(ws *Workspace) vugu.Builder
+}
+
+// Views lists the views in switcher order.
+func Views() []View {
+	return []View{
+		{ID: "data", Title: "Data", Hint: "Load files, see their series, draw them",
+			Make: func(ws *Workspace) vugu.Builder { return &DataView{WS: ws} }},
+		{ID: "trends", Title: "Trends", Hint: "Trend over a window with honest uncertainty, two-window comparison, trend grid, change points",
+			Make: func(ws *Workspace) vugu.Builder { return &TrendsView{WS: ws} }},
+	}
+}
+
+// Root is the page: header, view switcher, error banner and the current view.
+type Root struct {
+	WS *Workspace
+
+	current string
+	inst    map[string]vugu.Builder
+}
+
+func (c *Root) views() []View { return Views() }
+
+// Current is the ID of the view shown.
+func (c *Root) Current() string {
+	vs := Views()
+	for _, v := range vs {
+		if v.ID == c.current {
+			return v.ID
+		}
+	}
+	if len(vs) == 0 {
+		return ""
+	}
+	return vs[0].ID
+}
+
+// view returns the component of the current view, made once per view so
+// that its state lives while the user switches away and back.
+func (c *Root) view() vugu.Builder {
+	id := c.Current()
+	if b, ok := c.inst[id]; ok {
+		return b
+	}
+	for _, v := range Views() {
+		if v.ID == id {
+			if c.inst == nil {
+				c.inst = map[string]vugu.Builder{}
+			}
+			b := v.Make(c.WS)
+			c.inst[id] = b
+			return b
+		}
+	}
+	return nil
+}
+
+func (c *Root) tabClass(id string) string {
+	if id == c.Current() {
+		return "hl-tab hl-tab-on"
+	}
+	return "hl-tab"
+}
+
+func (c *Root) ariaCurrent(id string) any {
+	if id == c.Current() {
+		return "page"
+	}
+	return nil
+}
+
+func (c *Root) show(id string) {
+	c.WS.Do("switching views", func() { c.current = id })
+}
+
+func (c *Root) dismiss() {
+	c.WS.Do("dismissing the message", c.WS.DismissBanner)
+}
