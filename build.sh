@@ -88,8 +88,14 @@ ensure_chromium() {
 wasm_test_env() {
 	# go test runs js/wasm test binaries with go_js_wasm_exec, which uses Node
 	if ! command -v node >/dev/null; then
-		echo "build.sh: the js/wasm tests need Node.js (Debian package: nodejs)" >&2
-		exit 1
+		if [[ "$(id -u)" == 0 ]] && command -v apt-get >/dev/null; then
+			echo "== installing nodejs (apt-get)"
+			apt-get update
+			DEBIAN_FRONTEND=noninteractive apt-get install -y nodejs
+		else
+			echo "build.sh: the js/wasm tests need Node.js: install the Debian package 'nodejs' and run again" >&2
+			exit 1
+		fi
 	fi
 	export PATH="$PATH:$GOROOT_DIR/lib/wasm"
 }
