@@ -149,8 +149,8 @@ func runTrend(args []string, stdout, stderr io.Writer) error {
 		unit = "units"
 	}
 	fmt.Fprintf(stdout, "%s, %s to %s, %d values, noise %s\n", r.Series, r.From, r.To, r.N, r.Noise)
-	fmt.Fprintf(stdout, "trend %s %s per %s (standard error %s; %g%% interval %s to %s); p = %s for no trend\n",
-		num(r.SlopePerDecade*scale), unit, *per, num(r.StderrPerDecade*scale), 100*r.Level, num(r.CILowPerDecade*scale), num(r.CIHighPerDecade*scale), num(r.PValue))
+	fmt.Fprintf(stdout, "trend %s %s per %s (standard error %s; %g%% interval %s to %s); p for no trend: %s\n",
+		num(r.SlopePerDecade*scale), unit, *per, num(r.StderrPerDecade*scale), 100*r.Level, num(r.CILowPerDecade*scale), num(r.CIHighPerDecade*scale), analysis.FmtP(r.PValue))
 	fmt.Fprintf(stdout, "residual lag-1 and lag-2 autocorrelation %s, %s; phi %s; nu %s; effective n %s; degrees of freedom %s; residual SD %s\n",
 		num(r.Rho1), num(r.Rho2), optNum(r.Phi), optNum(r.Nu), optNum(r.NEff), optNum(r.DOF), num(r.ResidualSD))
 	printWarnings(stdout, r.Warnings)
