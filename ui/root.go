@@ -20,6 +20,8 @@ func Views() []View {
 			Make: func(ws *Workspace) vugu.Builder { return &DataView{WS: ws} }},
 		{ID: "trends", Title: "Trends", Hint: "Trend over a window with honest uncertainty, two-window comparison, trend grid, change points",
 			Make: func(ws *Workspace) vugu.Builder { return &TrendsView{WS: ws} }},
+		{ID: "drivers", Title: "Drivers", Hint: "Remove short-term factors by lagged regression: each factor's contribution and the adjusted series",
+			Make: func(ws *Workspace) vugu.Builder { return &DriversView{WS: ws} }},
 	}
 }
 
