@@ -559,7 +559,7 @@ func (c *TrendsView) brkBreaks() [][]string {
 	}
 	var out [][]string
 	for i, b := range c.brk.Result.Breaks {
-		out = append(out, []string{strconv.Itoa(i + 1), analysis.Fmt(b.Time), analysis.Fmt(b.CILow), analysis.Fmt(b.CIHigh)})
+		out = append(out, []string{strconv.Itoa(i + 1), analysis.FmtYear(b.Time), analysis.FmtYear(b.CILow), analysis.FmtYear(b.CIHigh)})
 	}
 	return out
 }
@@ -568,7 +568,9 @@ func (c *TrendsView) brkProgress() string {
 	if c.brkTotal == 0 {
 		return "Searching…"
 	}
-	return fmt.Sprintf("%d of %d simulations", c.brkDone, c.brkTotal)
+	// the total counts the simulations of every break tested and the
+	// bootstrap runs, so it exceeds the number of simulations asked for
+	return fmt.Sprintf("%d of %d Monte Carlo runs", c.brkDone, c.brkTotal)
 }
 
 func (c *TrendsView) exportBrk(what string) {

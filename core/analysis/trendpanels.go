@@ -105,9 +105,19 @@ func (w *Workspace) BreaksFigure(s BreaksSettings, ctx context.Context, progress
 		if r.Model == "mean" {
 			v = fmtOpt(sg.Mean)
 		}
-		tb.Rows = append(tb.Rows, []string{strconv.Itoa(i + 1), Fmt(sg.From), Fmt(sg.To), strconv.Itoa(sg.N), v})
+		tb.Rows = append(tb.Rows, []string{strconv.Itoa(i + 1), FmtYear(sg.From), FmtYear(sg.To), strconv.Itoa(sg.N), v})
 	}
 	return &BreaksView{Result: r, SVG: ch.SVG(), Table: tb}, nil
+}
+
+// FmtYear formats a decimal year for tables with two decimals (a month is
+// 0.083 of a year), "-" for NaN: four significant digits would print
+// 2025.96 as 2026 and move a break by up to half a year.
+func FmtYear(t float64) string {
+	if math.IsNaN(t) || math.IsInf(t, 0) {
+		return "-"
+	}
+	return strconv.FormatFloat(t, 'f', 2, 64)
 }
 
 func valueRange(v []float64) (lo, hi float64) {

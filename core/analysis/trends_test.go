@@ -169,3 +169,12 @@ func TestGridFigure(t *testing.T) {
 		t.Error("bad mark accepted")
 	}
 }
+
+func TestFmtYear(t *testing.T) {
+	// the last month of 2025 sits at 2025 + 11.5/12; a table must not round it into 2026
+	for in, want := range map[float64]string{2025 + 11.5/12: "2025.96", 1999.8945: "1999.89", 1950: "1950.00", math.NaN(): "-"} {
+		if got := FmtYear(in); got != want {
+			t.Errorf("FmtYear(%v) = %q, want %q", in, got, want)
+		}
+	}
+}
