@@ -113,8 +113,7 @@ func (c *DriversView) targetSeries() *series.Series {
 
 // targetDefaults sets the settings that follow from the target: the
 // annual-cycle terms (2 for a monthly target, 0 for an annual one) and the
-// two comparison windows (1970-1997 against 1998-2012 when the target
-// covers them, else the two halves of its whole years).
+// two comparison windows (the two halves of its whole years).
 func (c *DriversView) targetDefaults() {
 	s := c.targetSeries()
 	c.harmonics = "2"
@@ -125,14 +124,22 @@ func (c *DriversView) targetDefaults() {
 	if s.Resolution == series.Annual {
 		c.harmonics = "0"
 	}
-	y0, y1 := firstWholeYear(s), lastWholeYear(s)
-	switch {
-	case y0 <= 1970 && y1 >= 2012:
-		c.aFrom, c.aTo, c.bFrom, c.bTo = "1970", "1997", "1998", "2012"
-	case y1-y0 >= 9:
-		mid := (y0 + y1) / 2
-		c.aFrom, c.aTo, c.bFrom, c.bTo = strconv.Itoa(y0), strconv.Itoa(mid), strconv.Itoa(mid+1), strconv.Itoa(y1)
+	c.aFrom, c.aTo, c.bFrom, c.bTo = halves(s)
+}
+
+// halves splits a series' whole years into two windows of (nearly) equal
+// length, the neutral default for a two-window comparison; empty strings
+// when it holds fewer than ten whole years.
+func halves(s *series.Series) (aFrom, aTo, bFrom, bTo string) {
+	if s == nil || s.Len() == 0 {
+		return
 	}
+	y0, y1 := firstWholeYear(s), lastWholeYear(s)
+	if y1-y0 < 9 {
+		return
+	}
+	mid := (y0 + y1) / 2
+	return strconv.Itoa(y0), strconv.Itoa(mid), strconv.Itoa(mid + 1), strconv.Itoa(y1)
 }
 
 // firstWholeYear is the first year whose January (or whose annual value)

@@ -92,10 +92,12 @@ func (c *TrendsView) setup() {
 	c.gridMin, c.gridStep, c.gridNoise, c.gridMark = "10", "year", "ar1", "zero"
 	c.brkMax, c.brkMin, c.brkSims, c.brkSeed, c.brkModel = "3", "10", "500", "1", "slope"
 	c.senCorr = "none"
-	c.aFrom, c.aTo, c.bFrom, c.bTo = "1970", "1997", "1998", "2012"
 	refs := c.WS.SeriesRefs()
 	if len(refs) > 0 {
 		c.picked[refs[0].Ref] = true
+		if s, err := c.WS.Analysis().Find(refs[0].Ref); err == nil {
+			c.aFrom, c.aTo, c.bFrom, c.bTo = halves(s)
+		}
 	}
 	c.refresh()
 }

@@ -18,7 +18,7 @@ func TestAdjustDemo(t *testing.T) {
 	var s AdjustSettings
 	// The settings as the page would save them (JSON).
 	if err := json.Unmarshal([]byte(`{"target":"surface_anomaly","drivers":[{"name":"ocean_index"},{"name":"aod","max_lag":24},{"name":"tsi"}],
-		"harmonics":-1,"windows":[["1970","1997"],["1998","2012"]],"change":[["1970","1997"],["1998","2012"]],"noise":"arma11"}`), &s); err != nil {
+		"harmonics":-1,"windows":[["1960","1989"],["1990","2019"]],"change":[["1960","1989"],["1990","2019"]],"noise":"arma11"}`), &s); err != nil {
 		t.Fatal(err)
 	}
 	r, err := w.Adjust(s)

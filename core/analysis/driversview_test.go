@@ -13,7 +13,7 @@ import (
 func demoDriversSettings() AdjustSettings {
 	return AdjustSettings{Target: "surface_anomaly",
 		Drivers: []AdjustDriver{{Name: "ocean_index"}, {Name: "aod"}, {Name: "tsi"}},
-		Change:  &[2][2]string{{"1970", "1997"}, {"1998", "2012"}}}
+		Change:  &[2][2]string{{"1960", "1989"}, {"1990", "2019"}}}
 }
 
 // zeroLineRe finds the first and last x pixel of the unnamed zero line of
@@ -203,7 +203,7 @@ func TestTrendTermAtLevel(t *testing.T) {
 func TestDriversFigureChangeWindowsUnusable(t *testing.T) {
 	w := demoWorkspace(t)
 	s := demoDriversSettings()
-	s.Change = &[2][2]string{{"2100", "2110"}, {"1998", "2012"}}
+	s.Change = &[2][2]string{{"2100", "2110"}, {"1990", "2019"}}
 	v, err := w.DriversFigure(s)
 	if err != nil {
 		t.Fatal(err)

@@ -64,7 +64,7 @@ func (w *Workspace) Compare(s CompareSettings) (*trend.Comparison, error) {
 func ParseWindow(s string) ([2]string, error) {
 	parts := strings.Split(s, ":")
 	if len(parts) != 2 || strings.TrimSpace(parts[0]) == "" || strings.TrimSpace(parts[1]) == "" {
-		return [2]string{}, fmt.Errorf("window %q: expected FROM:TO, e.g. 1970:1999 or 1998-01:2012-12", s)
+		return [2]string{}, fmt.Errorf("window %q: expected FROM:TO, e.g. 1961:1990 or 1991-01:2020-12", s)
 	}
 	for _, p := range parts {
 		if _, err := series.ParseTime(p, false); err != nil {

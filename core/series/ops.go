@@ -21,7 +21,8 @@ func (s *Series) Window(from, to float64) (*Series, error) {
 		b--
 	}
 	if a == b {
-		return nil, fmt.Errorf("series %q (%s to %s) has no steps in the window %s to %s", s.Name, fmtYear(s.Start()), fmtYear(s.End()), fmtYear(from), fmtYear(to))
+		return nil, fmt.Errorf("series %q (%s to %s) has no steps in the window %s: expected a window that overlaps the series", s.Name,
+			StepLabel(s.Resolution, s.First), StepLabel(s.Resolution, s.Last()), windowText(from, to))
 	}
 	w := New(s.Name, s.Unit, s.Resolution, s.First+a, append([]float64(nil), s.Values[a:b]...))
 	w.Source = s.Source
@@ -29,6 +30,21 @@ func (s *Series) Window(from, to float64) (*Series, error) {
 }
 
 func fmtYear(t float64) string { return strconv.FormatFloat(t, 'f', -1, 64) }
+
+// windowText describes a window in words: "from 2100", "up to 1950.5",
+// "1980 to 1990.25" (decimal years, rounded to 3 places).
+func windowText(from, to float64) string {
+	r := func(t float64) string { return strconv.FormatFloat(math.Round(t*1000)/1000, 'f', -1, 64) }
+	switch {
+	case math.IsInf(from, -1) && math.IsInf(to, 1):
+		return "of the whole record"
+	case math.IsInf(to, 1):
+		return "from " + r(from)
+	case math.IsInf(from, -1):
+		return "up to " + r(to)
+	}
+	return r(from) + " to " + r(to)
+}
 
 // ParseTime reads a time given as YYYY, YYYY-MM or a decimal year and
 // returns the decimal year of its start (isEnd false) or of its end (isEnd
@@ -74,7 +90,21 @@ func (s *Series) WindowSpec(from, to string) (*Series, error) {
 	if hi < lo {
 		return nil, fmt.Errorf("series %q: window %s to %s ends before it starts", s.Name, from, to)
 	}
-	return s.Window(lo, hi)
+	w, err := s.Window(lo, hi)
+	if err != nil && len(s.Values) > 0 {
+		var text string
+		switch {
+		case from != "" && to != "":
+			text = from + " to " + to
+		case from != "":
+			text = "from " + from
+		default:
+			text = "up to " + to
+		}
+		return nil, fmt.Errorf("series %q (%s to %s) has no steps in the window %s: expected a window that overlaps the series", s.Name,
+			StepLabel(s.Resolution, s.First), StepLabel(s.Resolution, s.Last()), text)
+	}
+	return w, err
 }
 
 // AnnualMeans averages a monthly series to calendar years. Months are
