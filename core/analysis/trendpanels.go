@@ -31,7 +31,7 @@ func (w *Workspace) CompareFigure(s CompareSettings) (*CompareView, error) {
 	ch.Lines = append(ch.Lines, chart.Line{Name: ser.Label(), X: ser.Times, Y: ser.Values, Color: chart.Palette[0], Width: 1})
 	for i, r := range c.Windows {
 		x := []float64{r.Start, r.End}
-		ch.Lines = append(ch.Lines, chart.Line{Name: fmt.Sprintf("window %c %s to %s: %s per decade", 'A'+i, r.From, r.To, signed(r.SlopePerDecade)),
+		ch.Lines = append(ch.Lines, chart.Line{Name: fmt.Sprintf("%c: %s per decade", 'A'+i, signed(r.SlopePerDecade)),
 			X: x, Y: []float64{r.At(x[0]), r.At(x[1])}, Color: chart.Palette[4+i], Width: 3})
 	}
 	tb := Table{Title: "Two-window comparison", Columns: []string{"", "from", "to", "n", "trend per decade", "standard error", "p"}}
@@ -55,7 +55,7 @@ func (w *Workspace) CompareFigure(s CompareSettings) (*CompareView, error) {
 				y[k] += (b.SlopeAfterPerDecade - b.SlopeBeforePerDecade) / 10 * (t - b.Break)
 			}
 		}
-		ch.Lines = append(ch.Lines, chart.Line{Name: "broken stick, rate change at " + strconv.FormatFloat(b.Break, 'f', 2, 64), X: x, Y: y, Color: chart.Palette[5], Width: 2, Dashed: true})
+		ch.Lines = append(ch.Lines, chart.Line{Name: "broken stick at " + strconv.FormatFloat(b.Break, 'f', 1, 64), X: x, Y: y, Color: chart.Palette[5], Width: 2, Dashed: true})
 		tb.Rows = append(tb.Rows, []string{"broken stick: change in rate at " + strconv.FormatFloat(b.Break, 'f', 2, 64), "", "", strconv.Itoa(b.N), Fmt(b.SlopeChangePerDecade), Fmt(b.StderrPerDecade), FmtP(b.PValue)})
 	}
 	return &CompareView{Result: c, SVG: ch.SVG(), Table: tb}, nil
@@ -219,7 +219,7 @@ func (w *Workspace) GridFigure(s GridSettings, mark string) (*GridView, error) {
 			Key:   from + GridKeySep + to})
 	}
 	v := &GridView{Result: g, SVG: h.SVG()}
-	v.Summary = fmt.Sprintf("%d windows; %d exclude the full-record trend at the %g%% level, about %.0f would by chance alone if the rate never changed. Neighbouring windows overlap, so they are far from independent: choosing the most striking window after looking is a multiple-testing trap.",
-		g.Cells, g.ExcludingFullTrend, 100*g.Level, g.ExpectedByChance)
+	v.Summary = fmt.Sprintf("%d windows. At the %g%% level, %d have intervals that exclude zero and %d exclude the full-record trend; about %.0f would exclude the full-record trend by chance alone if the rate never changed. Neighbouring windows overlap, so they are far from independent: choosing the most striking window after looking is a multiple-testing trap.",
+		g.Cells, 100*g.Level, g.ExcludingZero, g.ExcludingFullTrend, g.ExpectedByChance)
 	return v, nil
 }
