@@ -104,7 +104,10 @@ func TestDemoRecoversIndex(t *testing.T) {
 			check("second_record", strconv.Itoa(from), strconv.Itoa(to), true)
 		}
 	}
-	check("surface_anomaly", "", "", false)
+	// The main record over its whole span (the view's default) recovers the
+	// built-in lag exactly; shorter windows of it may pick a neighbouring
+	// month (see TestDemoLagAmbiguity), so they are held to +-1 month.
+	check("surface_anomaly", "", "", true)
 	check("surface_anomaly", "1979", "2024", false)
 }
 
