@@ -3,7 +3,6 @@ package main
 import (
 	"fmt"
 	"io"
-	"os"
 	"strconv"
 	"strings"
 	"text/tabwriter"
@@ -264,15 +263,7 @@ func runAdjust(args []string, stdout, stderr io.Writer) error {
 		return err
 	}
 	if *csvOut != "" {
-		f, err := os.Create(*csvOut)
-		if err != nil {
-			return err
-		}
-		if err := r.WriteCSV(f); err != nil {
-			f.Close()
-			return err
-		}
-		if err := f.Close(); err != nil {
+		if err := writeFileWith(*csvOut, r.WriteCSV); err != nil {
 			return err
 		}
 	}

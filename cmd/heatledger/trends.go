@@ -77,6 +77,20 @@ func (c *common) workspace(args []string, stderr io.Writer) (*analysis.Workspace
 	return w, nil
 }
 
+// writeFileWith creates a file and fills it with write, closing it in every
+// case and reporting the first error.
+func writeFileWith(path string, write func(io.Writer) error) error {
+	f, err := os.Create(path)
+	if err != nil {
+		return err
+	}
+	if err := write(f); err != nil {
+		f.Close()
+		return err
+	}
+	return f.Close()
+}
+
 func writeJSON(w io.Writer, v any) error {
 	enc := json.NewEncoder(w)
 	enc.SetIndent("", "  ")
@@ -234,15 +248,7 @@ func runGrid(args []string, stdout, stderr io.Writer) error {
 		return err
 	}
 	if *csvOut != "" {
-		f, err := os.Create(*csvOut)
-		if err != nil {
-			return err
-		}
-		if err := g.WriteCSV(f); err != nil {
-			f.Close()
-			return err
-		}
-		if err := f.Close(); err != nil {
+		if err := writeFileWith(*csvOut, g.WriteCSV); err != nil {
 			return err
 		}
 	}
