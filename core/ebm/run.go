@@ -126,7 +126,14 @@ func Simulate(f *forcing.Result, p Params, opt RunOptions) (*Run, error) {
 		return nil, err
 	}
 	n := f.Len()
-	take := func() []float64 { return make([]float64, n) }
+	// every output array comes from one allocation: 9 for the run and the
+	// scratch arrays, 2 per component
+	slab := make([]float64, (9+2*len(f.Components))*n)
+	take := func() []float64 {
+		v := slab[:n:n]
+		slab = slab[n:]
+		return v
+	}
 	r := &Run{Params: p, Derived: d, SpinupFromYear: sp.from, SpinupYears: sp.years, Forcing: f.Effective,
 		EndT: take(), EndT0: take(), HeatZJ: take()}
 	if sp.note != "" {
