@@ -22,6 +22,10 @@ func Views() []View {
 			Make: func(ws *Workspace) vugu.Builder { return &TrendsView{WS: ws} }},
 		{ID: "drivers", Title: "Drivers", Hint: "Remove short-term factors by lagged regression: each factor's contribution and the adjusted series",
 			Make: func(ws *Workspace) vugu.Builder { return &DriversView{WS: ws} }},
+		{ID: "response", Title: "Response", Hint: "Forcing from its components, energy balance models run and fitted to the record, and how much of the change each forcing explains",
+			Make: func(ws *Workspace) vugu.Builder { return &ResponseView{WS: ws} }},
+		{ID: "budget", Title: "Budget", Hint: "Heat content to heating rate, energy-budget climate sensitivity with its uncertainty, and how the chosen periods move it",
+			Make: func(ws *Workspace) vugu.Builder { return &BudgetView{WS: ws} }},
 	}
 }
 
