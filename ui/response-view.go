@@ -1,6 +1,7 @@
 package ui
 
 import (
+	"errors"
 	"fmt"
 	"math"
 	"strconv"
@@ -592,7 +593,8 @@ func (c *ResponseView) driverRefs() []SeriesRef {
 // the browser first, so the progress line shows; the fit itself (a
 // Nelder-Mead search of some hundreds of model runs, and a lag search with
 // drivers) runs in one piece, then the browser gets a turn before the
-// tables are drawn. Cancel drops the result.
+// tables are drawn. Cancel stops the fit at its next hand-back to the
+// browser and drops the result.
 func (c *ResponseView) runFit(ev vugu.DOMEvent) {
 	c.WS.Do("starting the fit", func() {
 		if c.fitRunning {
@@ -611,6 +613,23 @@ func (c *ResponseView) runFit(ev vugu.DOMEvent) {
 		go func() {
 			c.WS.Yield() // let the browser draw the progress line first
 			start := time.Now()
+			last := start
+			// the fit hands control back to the browser every ~40 ms, so
+			// the page stays responsive and Cancel stops the work
+			s.Step = func() error {
+				if time.Since(last) < 40*time.Millisecond {
+					return nil
+				}
+				c.WS.Yield()
+				last = time.Now()
+				env.RLock()
+				live := c.fitGen == gen
+				env.RUnlock()
+				if !live {
+					return errFitCancelled
+				}
+				return nil
+			}
 			var r *analysis.Response
 			var v *analysis.ResponseFitView
 			err := rsSafely(func() (err error) { r, err = aw.Respond(s); return err })
@@ -978,3 +997,6 @@ func (c *ResponseView) saveSVG(which string) {
 		c.say(which, "Saved "+file+".")
 	})
 }
+
+// errFitCancelled stops a fit whose result nobody wants any more.
+var errFitCancelled = errors.New("fit cancelled")

@@ -237,6 +237,10 @@ type RespondSettings struct {
 	// Noise and Level are the trend settings of the record (default ar1, 0.95).
 	Noise string  `json:"noise,omitempty"`
 	Level float64 `json:"level,omitempty"`
+	// Step, if set, is called often during a fit (see ebm.FitOptions.Step):
+	// the page yields to the browser there and stops the fit when it
+	// returns an error.
+	Step func() error `json:"-"`
 }
 
 // Response is the outcome of Respond.
@@ -335,7 +339,7 @@ func (w *Workspace) respondFit(s RespondSettings, f *forcing.Result, p ebm.Param
 	if err != nil {
 		return nil, fmt.Errorf("fit record: %w", err)
 	}
-	opt := ebm.FitOptions{Target: target, From: fs.From, To: fs.To, Free: fs.Free, Level: fs.Level}
+	opt := ebm.FitOptions{Target: target, From: fs.From, To: fs.To, Free: fs.Free, Level: fs.Level, Step: s.Step}
 	if fs.Heat != "" {
 		if opt.Heat, err = w.Find(fs.Heat); err != nil {
 			return nil, fmt.Errorf("heat record: %w", err)

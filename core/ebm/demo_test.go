@@ -2,6 +2,7 @@ package ebm
 
 import (
 	"encoding/json"
+	"errors"
 	"math"
 	"math/rand/v2"
 	"os"
@@ -468,4 +469,40 @@ func TestFitCoverage(t *testing.T) {
 		}
 	}
 	t.Logf("coverage: lambda %d, aerosol scale %d of %d", hitL, hitA, reps)
+}
+
+// TestFitStep: FitOptions.Step is called during the fit and an error from
+// it stops the fit with that error (the page's Cancel).
+func TestFitStep(t *testing.T) {
+	n := 240
+	cols := map[string][]float64{"ghg": make([]float64, n)}
+	for i := range n {
+		cols["ghg"][i] = 2 * float64(i) / float64(n)
+	}
+	first := series.MonthIndex(1990, 1)
+	f := testForcing(t, series.Monthly, first, cols, "ghg")
+	truth := Params{Model: ModelTwoLayer, LambdaWPerM2K: 1.1, GammaWPerM2K: 0.6, CWYrPerM2K: 7, C0WYrPerM2K: 120, Efficacy: 1}
+	r, err := Simulate(f, truth, RunOptions{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	target := series.New("y", "K", series.Monthly, first, append([]float64(nil), r.T.Values...))
+	calls := 0
+	stop := errors.New("stop here")
+	_, err = Fit(f, DefaultParams(), RunOptions{}, FitOptions{Target: target, Free: []string{"lambda", "gamma"},
+		Step: func() error {
+			calls++
+			if calls == 25 {
+				return stop
+			}
+			return nil
+		}})
+	if !errors.Is(err, stop) || calls < 25 {
+		t.Fatalf("err %v after %d calls: want the Step error", err, calls)
+	}
+	calls = 0
+	if _, err = Fit(f, DefaultParams(), RunOptions{}, FitOptions{Target: target, Free: []string{"lambda"},
+		Step: func() error { calls++; return nil }}); err != nil || calls == 0 {
+		t.Fatalf("fit with a harmless Step: %v, %d calls", err, calls)
+	}
 }

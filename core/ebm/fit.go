@@ -77,6 +77,10 @@ type FitOptions struct {
 	Extra []Regressor
 	// Level is the confidence level of the intervals (0 means 0.95).
 	Level float64
+	// Step, if set, is called before every evaluation of the objective; a
+	// page uses it to hand control back to the browser now and then. An
+	// error from it stops the fit, and Fit returns that error.
+	Step func() error
 }
 
 // Estimate is a fitted parameter.
@@ -194,11 +198,18 @@ func Fit(f *forcing.Result, start Params, run RunOptions, opt FitOptions) (*FitR
 	if err != nil {
 		return nil, err
 	}
-	return ft.fit()
+	res, err := ft.fit()
+	if ft.stopped != nil {
+		return nil, ft.stopped
+	}
+	return res, err
 }
 
 // fitter holds the prepared problem and the buffers of the objective.
 type fitter struct {
+	// stopped is the error of FitOptions.Step that stopped the fit
+	stopped error
+
 	f     *forcing.Result
 	base  Params
 	opt   FitOptions
@@ -746,6 +757,15 @@ func (ft *fitter) design(w float64) {
 // objective is the weighted RSS after the linear solve.
 func (ft *fitter) objective(x []float64, w float64) float64 {
 	ft.evals++
+	if ft.stopped != nil {
+		return math.Inf(1)
+	}
+	if ft.opt.Step != nil {
+		if err := ft.opt.Step(); err != nil {
+			ft.stopped = err
+			return math.Inf(1)
+		}
+	}
 	p, ok := ft.dynParams(x)
 	if !ok {
 		return math.Inf(1)
@@ -764,7 +784,13 @@ func (ft *fitter) minimise(x0 []float64, w float64) ([]float64, float64, error) 
 	if len(x0) == 0 {
 		return x0, ft.objective(x0, w), nil
 	}
-	prob := optimize.Problem{Func: func(x []float64) float64 { return ft.objective(x, w) }}
+	prob := optimize.Problem{Func: func(x []float64) float64 { return ft.objective(x, w) },
+		Status: func() (optimize.Status, error) {
+			if ft.stopped != nil {
+				return optimize.Failure, ft.stopped
+			}
+			return optimize.NotTerminated, nil
+		}}
 	x := append([]float64(nil), x0...)
 	best := math.Inf(1)
 	for round := range 2 {
