@@ -248,11 +248,33 @@ func (w *Workspace) pickSeries(name string, ok func(*series.Series) bool) string
 // demo's ocean_heat (else the first series with a heat-content unit) over
 // its whole record, AR(1) noise, Earth's surface, and the ocean share of
 // OceanFractionSource for the imbalance estimate.
+//
+// The window is the last 20 whole years of a record longer than 30 years: a
+// heat-content record usually curves upward, and one straight line over
+// its whole span says little about the present rate.
 func (w *Workspace) DefaultHeatSettings() HeatSettings {
-	return HeatSettings{
+	hs := HeatSettings{
 		Series:    w.pickSeries("ocean_heat", isHeatUnit),
 		HeatInput: HeatInput{Area: "earth", Noise: "ar1", OceanFraction: budget.OceanFractionAR6},
 	}
+	if s, err := w.Find(hs.Series); err == nil && s.Len() > 0 {
+		last := s.Last()
+		if s.Resolution == series.Monthly {
+			y, m := series.YearMonth(last)
+			last = y
+			if m != 12 {
+				last = y - 1
+			}
+		}
+		first := s.First
+		if s.Resolution == series.Monthly {
+			first, _ = series.YearMonth(s.First)
+		}
+		if last-first+1 > 30 {
+			hs.From, hs.To = strconv.Itoa(last-19), strconv.Itoa(last)
+		}
+	}
+	return hs
 }
 
 // GuessForcing builds forcing settings from the loaded series whose names
