@@ -9,7 +9,6 @@ import (
 
 	"heatledger/core/analysis"
 	"heatledger/core/drivers"
-	"heatledger/core/trend"
 )
 
 func init() {
@@ -63,70 +62,6 @@ func parseDriverSpec(s string) (analysis.AdjustDriver, error) {
 		return analysis.AdjustDriver{}, bad("no name")
 	}
 	return analysis.AdjustDriver{Name: name, MinLag: &lo, MaxLag: &hi}, nil
-}
-
-// adjustDriverJSON is one driver in the JSON output (the first six keys are
-// the CLI contract).
-type adjustDriverJSON struct {
-	Name              string           `json:"name"`
-	LagMonths         int              `json:"lag_months"`
-	Coefficient       float64          `json:"coefficient"`
-	Stderr            float64          `json:"stderr"`
-	StderrARMA11      float64          `json:"stderr_arma11"`
-	Standardized      float64          `json:"standardized"` // b * sd(driver): target units per one standard deviation
-	Beta              float64          `json:"beta"`         // standardized / sd(target)
-	Unit              string           `json:"unit"`
-	MinLag            int              `json:"min_lag"`
-	MaxLag            int              `json:"max_lag"`
-	Smooth3           bool             `json:"smooth3"`
-	Detrend           bool             `json:"detrend"`
-	VIF               float64          `json:"vif"`
-	RSSIncreaseMinus1 *float64         `json:"rss_increase_minus_1"`
-	RSSIncreasePlus1  *float64         `json:"rss_increase_plus_1"`
-	Profile           []drivers.LagRSS `json:"profile,omitempty"`
-}
-
-// adjustJSON is the output of `heatledger adjust --json`. The keys target,
-// n, dropped, drivers, trend_per_decade, trend_stderr_per_decade, r2, aic,
-// adjusted_trend and warnings are the CLI contract; the rest are extras.
-type adjustJSON struct {
-	Target         string               `json:"target"`
-	N              int                  `json:"n"`
-	Dropped        int                  `json:"dropped"`
-	DroppedReasons []drivers.DropReason `json:"dropped_reasons"`
-	OutsideWindow  int                  `json:"outside_window"`
-	From           string               `json:"from"`
-	To             string               `json:"to"`
-	Drivers        []adjustDriverJSON   `json:"drivers"`
-	// TrendPerDecade is the fitted model's trend coefficient (linear trend;
-	// broken: the first segment), per decade; null for none or series.
-	// TrendStderrPerDecade is its standard error with the ARMA(1,1)
-	// inflation of Foster and Rahmstorf 2011 (OLS SE times sqrt(nu));
-	// TrendStderrOLSPerDecade the plain OLS one.
-	TrendPerDecade          *float64               `json:"trend_per_decade"`
-	TrendStderrPerDecade    *float64               `json:"trend_stderr_per_decade"`
-	TrendStderrOLSPerDecade *float64               `json:"trend_stderr_ols_per_decade"`
-	R2                      float64                `json:"r2"`
-	AIC                     float64                `json:"aic"`
-	AdjustedTrend           *trend.Result          `json:"adjusted_trend"`
-	RawTrend                *trend.Result          `json:"raw_trend"`
-	Warnings                []string               `json:"warnings"`
-	TrendKind               string                 `json:"trend"`
-	Harmonics               int                    `json:"harmonics"`
-	Intercept               drivers.Coef           `json:"intercept"`
-	RefTime                 float64                `json:"ref_time"`
-	TrendTerm               *drivers.TrendTerm     `json:"trend_term"`
-	AnnualCycle             []drivers.Harmonic     `json:"annual_cycle"`
-	AdjR2                   float64                `json:"adj_r2"`
-	ResidualSD              float64                `json:"residual_sd"`
-	Rho1                    float64                `json:"rho1"`
-	Rho2                    float64                `json:"rho2"`
-	Phi                     *float64               `json:"phi"`
-	Nu                      float64                `json:"nu"`
-	Cond                    float64                `json:"cond"`
-	LagSearch               *drivers.LagSearch     `json:"lag_search"`
-	Trends                  []drivers.WindowTrends `json:"trends"`
-	TrendChange             *drivers.TrendChange   `json:"trend_change"`
 }
 
 func runAdjust(args []string, stdout, stderr io.Writer) error {
@@ -268,33 +203,10 @@ func runAdjust(args []string, stdout, stderr io.Writer) error {
 		}
 	}
 	if *asJSON {
-		return writeJSON(stdout, adjustOutput(r))
+		return writeJSON(stdout, analysis.AdjustOutput(r))
 	}
 	printAdjust(stdout, r)
 	return nil
-}
-
-func adjustOutput(r *drivers.Result) adjustJSON {
-	out := adjustJSON{
-		Target: r.Target, N: r.N, Dropped: r.Dropped, DroppedReasons: r.DroppedReasons, OutsideWindow: r.OutsideWindow,
-		From: r.From, To: r.To, Drivers: []adjustDriverJSON{},
-		TrendPerDecade: r.Trend.SlopePerDecade, TrendStderrPerDecade: r.Trend.StderrARMA11PerDecade, TrendStderrOLSPerDecade: r.Trend.StderrOLSPerDecade,
-		R2: r.R2, AIC: r.AIC, AdjustedTrend: r.Trends[0].Adjusted, RawTrend: r.Trends[0].Raw, Warnings: r.Warnings,
-		TrendKind: r.TrendKind, Harmonics: r.Harmonics, Intercept: r.Intercept, RefTime: r.RefTime, TrendTerm: r.Trend,
-		AnnualCycle: r.Cycle, AdjR2: r.AdjR2, ResidualSD: r.ResidualSD, Rho1: r.Rho1, Rho2: r.Rho2, Phi: r.Phi, Nu: r.Nu,
-		Cond: r.Cond, LagSearch: r.Search, Trends: r.Trends, TrendChange: r.Change,
-	}
-	if out.AnnualCycle == nil {
-		out.AnnualCycle = []drivers.Harmonic{}
-	}
-	for _, d := range r.Drivers {
-		out.Drivers = append(out.Drivers, adjustDriverJSON{
-			Name: d.Name, LagMonths: d.LagMonths, Coefficient: d.Estimate, Stderr: d.StdErr, StderrARMA11: d.StdErrARMA11,
-			Standardized: d.Effect1SD, Beta: d.Beta, Unit: d.Unit, MinLag: d.MinLag, MaxLag: d.MaxLag, Smooth3: d.Smooth3,
-			Detrend: d.Detrend, VIF: d.VIF, RSSIncreaseMinus1: d.RSSIncreaseMinus1, RSSIncreasePlus1: d.RSSIncreasePlus1, Profile: d.Profile,
-		})
-	}
-	return out
 }
 
 func printAdjust(w io.Writer, r *drivers.Result) {

@@ -157,49 +157,6 @@ func (ff *forcingFlags) settings() (analysis.ForcingSettings, error) {
 	return s, nil
 }
 
-// forcingComponentJSON is one component in `heatledger forcing --json`
-// (name, kind, first and last are the contract; first and last are the
-// forcing at the first and last steps, W m-2).
-type forcingComponentJSON struct {
-	Name          string  `json:"name"`
-	Kind          string  `json:"kind"`
-	First         float64 `json:"first"`
-	Last          float64 `json:"last"`
-	Mean          float64 `json:"mean"`
-	Series        string  `json:"series"`
-	Unit          string  `json:"unit"`
-	Formula       string  `json:"formula"`
-	ReferenceMode string  `json:"reference_mode"`
-	Reference     float64 `json:"reference"`
-	Scale         float64 `json:"scale"`
-	Efficacy      float64 `json:"efficacy"`
-	Filled        int     `json:"filled"`
-}
-
-// forcingJSON is the output of `heatledger forcing --json` (components and
-// total_last are the contract).
-type forcingJSON struct {
-	Components []forcingComponentJSON `json:"components"`
-	TotalLast  float64                `json:"total_last"`
-	From       string                 `json:"from"`
-	To         string                 `json:"to"`
-	Settings   forcing.Settings       `json:"settings"`
-	Warnings   []string               `json:"warnings"`
-}
-
-func forcingOutput(f *forcing.Result) forcingJSON {
-	out := forcingJSON{TotalLast: f.TotalLastWPerM2, From: f.From, To: f.To, Settings: f.Settings, Warnings: f.Warnings, Components: []forcingComponentJSON{}}
-	if out.Warnings == nil {
-		out.Warnings = []string{}
-	}
-	for _, c := range f.Components {
-		out.Components = append(out.Components, forcingComponentJSON{Name: c.Name, Kind: c.Kind, First: c.FirstWPerM2, Last: c.LastWPerM2, Mean: c.MeanWPerM2,
-			Series: c.Series, Unit: c.Unit, Formula: c.Formula, ReferenceMode: c.ReferenceMode, Reference: c.Reference, Scale: c.Scale,
-			Efficacy: c.Efficacy, Filled: c.Filled})
-	}
-	return out
-}
-
 // newResponseCommon is newCommon without --series (these commands name
 // their series in the component flags).
 func newResponseCommon(name, synopsis string, stderr io.Writer, help func(io.Writer)) *common {
@@ -252,7 +209,7 @@ func runForcing(args []string, stdout, stderr io.Writer) error {
 		}
 	}
 	if *c.asJSON {
-		return writeJSON(stdout, forcingOutput(f))
+		return writeJSON(stdout, analysis.ForcingOutput(f))
 	}
 	if *csvOut == "" {
 		if _, err := io.WriteString(stdout, tab.CSV()); err != nil {
@@ -261,105 +218,6 @@ func runForcing(args []string, stdout, stderr io.Writer) error {
 	}
 	printWarnings(stderr, f.Warnings)
 	return nil
-}
-
-// estimateJSON is one fitted parameter (value and stderr are the contract).
-type estimateJSON struct {
-	Value     float64 `json:"value"`
-	Stderr    float64 `json:"stderr"`
-	Low       float64 `json:"low"`
-	High      float64 `json:"high"`
-	Component string  `json:"component,omitempty"`
-}
-
-// fitJSON is the fit in `heatledger respond` (free, rmse and r2 are the
-// contract).
-type fitJSON struct {
-	Free        map[string]estimateJSON `json:"free"`
-	RMSE        float64                 `json:"rmse"`
-	R2          float64                 `json:"r2"`
-	ECS         ebm.Interval            `json:"ecs"`
-	TCR         ebm.Interval            `json:"tcr"`
-	Level       float64                 `json:"level"`
-	N           int                     `json:"n"`
-	HeatN       int                     `json:"heat_n"`
-	HeatRMSEZJ  *float64                `json:"heat_rmse_zj"`
-	HeatWeight  float64                 `json:"heat_weight"`
-	HeatShare   float64                 `json:"heat_share"`
-	Rho1        float64                 `json:"rho1"`
-	Rho2        float64                 `json:"rho2"`
-	Nu          float64                 `json:"nu"`
-	Order       []string                `json:"order"`
-	Correlation [][]float64             `json:"correlation"`
-	Evaluations int                     `json:"evaluations"`
-}
-
-// respondJSON is the output of `heatledger respond`: model, params,
-// derived, fit, final and warnings are the contract; the rest are extras.
-type respondJSON struct {
-	Model          string              `json:"model"`
-	Params         ebm.Params          `json:"params"`
-	Derived        ebm.Derived         `json:"derived"`
-	Fit            *fitJSON            `json:"fit"`
-	Final          ebm.State           `json:"final"`
-	Warnings       []string            `json:"warnings"`
-	Initial        ebm.State           `json:"initial"`
-	SpinupFrom     float64             `json:"spinup_from"`
-	SpinupYears    float64             `json:"spinup_years"`
-	Forcing        forcingJSON         `json:"forcing"`
-	Attribution    []*ebm.Attribution  `json:"attribution"`
-	Drivers        []driverOnResponse  `json:"drivers,omitempty"`
-	ResidualTrends []residualTrendJSON `json:"residual_trends,omitempty"`
-	Notes          []string            `json:"notes"`
-}
-
-// driverOnResponse is a short-term driver fitted with the model.
-type driverOnResponse struct {
-	Name        string  `json:"name"`
-	LagMonths   int     `json:"lag_months"`
-	Coefficient float64 `json:"coefficient"`
-	Stderr      float64 `json:"stderr"`
-}
-
-type residualTrendJSON struct {
-	From            string  `json:"from"`
-	To              string  `json:"to"`
-	SlopePerDecade  float64 `json:"slope_per_decade"`
-	StderrPerDecade float64 `json:"stderr_per_decade"`
-	CILowPerDecade  float64 `json:"ci_low_per_decade"`
-	CIHighPerDecade float64 `json:"ci_high_per_decade"`
-	Noise           string  `json:"noise"`
-}
-
-func respondOutput(r *analysis.Response) respondJSON {
-	out := respondJSON{Model: r.Model, Params: r.Params, Derived: r.Derived, Final: r.Run.Final, Initial: r.Run.Initial,
-		SpinupFrom: r.Run.SpinupFromYear, SpinupYears: r.Run.SpinupYears, Forcing: forcingOutput(r.Forcing),
-		Attribution: r.Attribution, Warnings: r.Warnings, Notes: r.Notes}
-	if out.Attribution == nil {
-		out.Attribution = []*ebm.Attribution{}
-	}
-	if out.Warnings == nil {
-		out.Warnings = []string{}
-	}
-	if f := r.Fit; f != nil {
-		fj := &fitJSON{Free: map[string]estimateJSON{}, RMSE: f.RMSE, R2: f.R2, ECS: f.ECS, TCR: f.TCR, Level: f.Level, N: f.N, HeatN: f.HeatN,
-			HeatRMSEZJ: f.HeatRMSEZJ, HeatWeight: f.HeatWeight, HeatShare: f.HeatShare, Rho1: f.Rho1, Rho2: f.Rho2, Nu: f.Nu,
-			Order: f.Names, Correlation: f.Correlation, Evaluations: f.Evaluations}
-		for _, e := range f.Estimates {
-			fj.Free[e.Name] = estimateJSON{Value: e.Value, Stderr: e.StdErr, Low: e.Low, High: e.High, Component: e.Component}
-		}
-		out.Fit = fj
-	}
-	if a := r.Adjust; a != nil {
-		for _, d := range a.Drivers {
-			out.Drivers = append(out.Drivers, driverOnResponse{Name: d.Name, LagMonths: d.LagMonths, Coefficient: d.Estimate, Stderr: d.StdErrARMA11})
-		}
-	}
-	for _, t := range r.ResidualTrends {
-		out.ResidualTrends = append(out.ResidualTrends, residualTrendJSON{From: t.From, To: t.To, SlopePerDecade: t.SlopePerDecade,
-			StderrPerDecade: t.StderrPerDecade, CILowPerDecade: t.CILowPerDecade, CIHighPerDecade: t.CIHighPerDecade, Noise: t.Noise})
-	}
-	return out
 }
 
 func respondHelp(w io.Writer) {
@@ -492,7 +350,7 @@ func runRespond(args []string, stdout, stderr io.Writer) error {
 		printRespond(stdout, r)
 		return nil
 	}
-	return writeJSON(stdout, respondOutput(r))
+	return writeJSON(stdout, analysis.RespondOutput(r))
 }
 
 func printRespond(w io.Writer, r *analysis.Response) {
