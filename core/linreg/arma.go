@@ -73,7 +73,21 @@ type ARMAResult struct {
 // Cov. Profiling sigma2 out leaves the inverse-Hessian block of the other
 // parameters unchanged, so these are the standard errors of the full
 // log-likelihood.
+//
+// AR(1) and ARMA(1,1) errors with at most three columns in X (the window
+// trend, the broken stick) take a fast path (arma11.go) that maximises the
+// same likelihood with a scalar form of the same Kalman filter and a Newton
+// method, and computes the same inverse Hessian by block inversion; it
+// agrees with the general path to about 1e-6 standard errors and hands the
+// fit back to it whenever the optimum is on or near the boundary or
+// otherwise in doubt.
 func ARMAFit(X mat.Matrix, y []float64, p, q int) (*ARMAResult, error) {
+	return armaFit(X, y, p, q, true)
+}
+
+// armaFit is ARMAFit; fast = false skips the AR(1)/ARMA(1,1) fast path of
+// arma11.go (for tests that compare the two).
+func armaFit(X mat.Matrix, y []float64, p, q int, fast bool) (*ARMAResult, error) {
 	if p < 0 || q < 0 || p > 6 || q > 6 {
 		return nil, fmt.Errorf("linreg: ARMA order (%d, %d): expected orders between 0 and 6", p, q)
 	}
@@ -110,6 +124,12 @@ func ARMAFit(X mat.Matrix, y []float64, p, q int) (*ARMAResult, error) {
 	npar := p + q + k
 	if used < npar+3 {
 		return nil, fmt.Errorf("linreg: %d observations for an ARMA(%d,%d) regression with %d coefficients: expected at least %d", used, p, q, k, npar+3)
+	}
+
+	if fast && p == 1 && q <= 1 {
+		if res, ok := fitARMA11(cols, used, q == 1); ok {
+			return res, nil
+		}
 	}
 
 	m := &armaModel{p: p, q: q, k: k, cols: cols, n: n}
