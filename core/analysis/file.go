@@ -12,7 +12,6 @@ import (
 	"fmt"
 	"math"
 	"reflect"
-	"regexp"
 	"sort"
 	"strings"
 
@@ -317,7 +316,26 @@ func (e *FileError) Error() string {
 // MaxAnalysisFileBytes is the largest analysis file read (256 MiB).
 const MaxAnalysisFileBytes = 256 << 20
 
-var validID = regexp.MustCompile(`^[A-Za-z0-9_-][A-Za-z0-9._-]{0,99}$`)
+// validID holds the rule for analysis ids: 1 to 100 letters, digits, '.',
+// '_' or '-', not starting with '.' (so an id is a safe file name). Written
+// by hand rather than as a regular expression, which would bring the whole
+// regexp package into the page.
+var validID = idRule{}
+
+type idRule struct{}
+
+func (idRule) MatchString(id string) bool {
+	if len(id) == 0 || len(id) > 100 || id[0] == '.' {
+		return false
+	}
+	for i := 0; i < len(id); i++ {
+		c := id[i]
+		if !(c >= 'a' && c <= 'z' || c >= 'A' && c <= 'Z' || c >= '0' && c <= '9' || c == '.' || c == '_' || c == '-') {
+			return false
+		}
+	}
+	return true
+}
 
 // ParseAnalysisFile reads an analysis file strictly: damaged JSON, unknown
 // fields, values of the wrong type, a wrong format or version and bad
