@@ -3,6 +3,7 @@ package ui
 import (
 	"encoding/json"
 	"fmt"
+	"github.com/vugu/vugu"
 	"strings"
 	"time"
 
@@ -81,6 +82,25 @@ func (w *Workspace) Yield() {
 		return
 	}
 	time.Sleep(time.Millisecond)
+}
+
+// Progress returns a progress callback for long work running in a
+// goroutine: it records the counts under the page's lock (set runs with the
+// lock held) and, at most every 40 ms, asks for a render and yields to the
+// browser, so the page draws the progress and takes clicks (Cancel).
+func (w *Workspace) Progress(env vugu.EventEnv, set func(done, total int)) func(done, total int) {
+	last := time.Now()
+	return func(done, total int) {
+		env.Lock()
+		set(done, total)
+		if time.Since(last) < 40*time.Millisecond {
+			env.UnlockOnly()
+			return
+		}
+		env.UnlockRender()
+		w.Yield()
+		last = time.Now()
+	}
 }
 
 // Save offers a download through the host, or says why it cannot.

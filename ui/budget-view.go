@@ -528,18 +528,7 @@ func (c *BudgetView) run(ev vugu.DOMEvent) {
 		go func() {
 			c.WS.Yield() // hand the click back to the browser first
 			start := time.Now()
-			last := start
-			progress := func(done, total int) {
-				env.Lock()
-				c.done, c.total = done, total
-				if time.Since(last) < 40*time.Millisecond {
-					env.UnlockOnly()
-					return
-				}
-				env.UnlockRender()
-				c.WS.Yield() // let the browser draw and take clicks
-				last = time.Now()
-			}
+			progress := c.WS.Progress(env, func(done, total int) { c.done, c.total = done, total })
 			var v *analysis.SensitivityView
 			var err error
 			func() {

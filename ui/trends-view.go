@@ -5,7 +5,6 @@ import (
 	"fmt"
 	"strconv"
 	"strings"
-	"time"
 
 	"github.com/vugu/vugu"
 
@@ -496,17 +495,7 @@ func (c *TrendsView) runBreaks(ev vugu.DOMEvent) {
 		env := ev.EventEnv()
 		go func() {
 			c.WS.Yield() // hand the click back to the browser first
-			last := time.Now()
-			progress := func(done, total int) {
-				if time.Since(last) < 40*time.Millisecond {
-					return
-				}
-				env.Lock()
-				c.brkDone, c.brkTotal = done, total
-				env.UnlockRender()
-				c.WS.Yield() // let the browser draw and take clicks
-				last = time.Now()
-			}
+			progress := c.WS.Progress(env, func(done, total int) { c.brkDone, c.brkTotal = done, total })
 			var v *analysis.BreaksView
 			var err error
 			func() {
