@@ -47,6 +47,9 @@ type TrendsView struct {
 	per     string
 	smooth  string
 	smoothN string // running mean steps or LOWESS span
+	// anomalies: fit monthly series as anomalies from their own mean
+	// seasonal cycle
+	anomalies bool
 
 	main    *analysis.TrendView
 	mainErr string
@@ -157,7 +160,7 @@ func (c *TrendsView) refresh() {
 		}
 		sm.Span = f
 	}
-	v, err := c.WS.Analysis().TrendFigure(analysis.TrendSettings{Series: refs, From: c.from, To: c.to, Noise: c.noise, Level: parseLevel(c.level)}, sm, c.per)
+	v, err := c.WS.Analysis().TrendFigure(analysis.TrendSettings{Series: refs, From: c.from, To: c.to, Noise: c.noise, Level: parseLevel(c.level), Anomalies: c.anomalies}, sm, c.per)
 	if err != nil {
 		c.mainErr = err.Error()
 		return
@@ -173,6 +176,13 @@ func (c *TrendsView) onPick(ref string) {
 }
 
 func (c *TrendsView) isPicked(ref string) bool { return c.picked[ref] }
+
+func (c *TrendsView) onAnomalies() {
+	c.WS.Do("changing the seasonal cycle setting", func() {
+		c.anomalies = !c.anomalies
+		c.refresh()
+	})
+}
 
 func (c *TrendsView) onText(field *string, what string) func(vugu.DOMEvent) {
 	return func(ev vugu.DOMEvent) {

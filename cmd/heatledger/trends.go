@@ -135,6 +135,7 @@ func runTrend(args []string, stdout, stderr io.Writer) error {
 	noise := c.fs.String("noise", "ar1", "noise model: white, ar1 (Santer et al. 2008), arma11 (Foster and Rahmstorf 2011) or arma11-ml")
 	level := c.fs.Float64("level", 0.95, "confidence level")
 	per := c.fs.String("per", "decade", "text output unit of the slope: decade, year or century")
+	anomalies := c.fs.Bool("anomalies", false, "monthly series: remove each calendar month's mean first (the mean seasonal cycle)")
 	w, err := c.workspace(args, stderr)
 	if err != nil {
 		return err
@@ -149,7 +150,7 @@ func runTrend(args []string, stdout, stderr io.Writer) error {
 	if scale == 0 {
 		return usageError{fmt.Sprintf("--per %q: expected decade, year or century", *per)}
 	}
-	rs, err := w.Trends(analysis.TrendSettings{Series: []string{*c.series}, From: *from, To: *to, Noise: *noise, Level: *level})
+	rs, err := w.Trends(analysis.TrendSettings{Series: []string{*c.series}, From: *from, To: *to, Noise: *noise, Level: *level, Anomalies: *anomalies})
 	if err != nil {
 		return err
 	}

@@ -16,6 +16,27 @@ type TrendSettings struct {
 	To     string   `json:"to,omitempty"`   // inclusive for YYYY and YYYY-MM; empty = the series' end
 	Noise  string   `json:"noise,omitempty"`
 	Level  float64  `json:"level,omitempty"`
+	// Anomalies removes each calendar month's mean (over the series' whole
+	// span) from monthly series before fitting: the answer to the trend
+	// engine's warning that monthly values still carry a seasonal cycle.
+	// Annual series are left as they are.
+	Anomalies bool `json:"anomalies,omitempty"`
+}
+
+// trendSeries finds a series and, when asked, turns monthly values into
+// anomalies from their own mean seasonal cycle.
+func (w *Workspace) trendSeries(name string, anomalies bool) (*series.Series, error) {
+	ser, err := w.Find(name)
+	if err != nil || !anomalies || ser.Resolution != series.Monthly {
+		return ser, err
+	}
+	y0, _ := series.YearMonth(ser.First)
+	y1, _ := series.YearMonth(ser.Last())
+	a, err := ser.Rebaseline(y0, y1)
+	if err != nil {
+		return nil, fmt.Errorf("monthly anomalies of %q: %w", ser.Name, err)
+	}
+	return a, nil
 }
 
 // Trends fits the window trend of each named series.
@@ -25,7 +46,7 @@ func (w *Workspace) Trends(s TrendSettings) ([]*trend.Result, error) {
 	}
 	var out []*trend.Result
 	for _, name := range s.Series {
-		ser, err := w.Find(name)
+		ser, err := w.trendSeries(name, s.Anomalies)
 		if err != nil {
 			return nil, err
 		}

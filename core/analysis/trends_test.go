@@ -178,3 +178,58 @@ func TestFmtYear(t *testing.T) {
 		}
 	}
 }
+
+// TestTrendAnomalies: the elnino file (statsmodels' dataset, monthly sea
+// surface temperature with its seasonal cycle in it) draws the seasonal-cycle
+// warning; as monthly anomalies it does not. OLS is linear, so the two slopes
+// differ by exactly the slope of the removed climatology (raw - anomalies),
+// computed here independently with the textbook formula.
+func TestTrendAnomalies(t *testing.T) {
+	b, err := os.ReadFile(filepath.Join("..", "..", "testdata", "elnino", "elnino.csv"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	w := NewWorkspace([]File{{"elnino.csv", b}}, series.Options{})
+	raw, err := w.Trends(TrendSettings{Series: []string{"elnino"}, Noise: "arma11"})
+	if err != nil {
+		t.Fatal(err)
+	}
+	an, err := w.Trends(TrendSettings{Series: []string{"elnino"}, Noise: "arma11", Anomalies: true})
+	if err != nil {
+		t.Fatal(err)
+	}
+	seasonal := func(ws []string) bool {
+		for _, m := range ws {
+			if strings.Contains(m, "seasonal cycle") {
+				return true
+			}
+		}
+		return false
+	}
+	if !seasonal(raw[0].Warnings) || seasonal(an[0].Warnings) {
+		t.Errorf("seasonal warning: raw %v, anomalies %v", raw[0].Warnings, an[0].Warnings)
+	}
+	s, _ := w.Find("elnino")
+	a, err := w.trendSeries("elnino", true)
+	if err != nil {
+		t.Fatal(err)
+	}
+	var tb, cb float64
+	n := float64(s.Len())
+	for i := range s.Values {
+		tb += s.Times[i] / n
+		cb += (s.Values[i] - a.Values[i]) / n
+	}
+	var stc, stt float64
+	for i := range s.Values {
+		stc += (s.Times[i] - tb) * (s.Values[i] - a.Values[i] - cb)
+		stt += (s.Times[i] - tb) * (s.Times[i] - tb)
+	}
+	climSlope := 10 * stc / stt
+	if d := raw[0].SlopePerDecade - an[0].SlopePerDecade; math.Abs(d-climSlope) > 1e-9 {
+		t.Errorf("slopes differ by %v, the climatology's slope is %v", d, climSlope)
+	}
+	if an[0].StderrPerDecade >= raw[0].StderrPerDecade {
+		t.Errorf("anomalies should shrink the residual noise: SE %v vs %v", an[0].StderrPerDecade, raw[0].StderrPerDecade)
+	}
+}

@@ -106,7 +106,7 @@ func (w *Workspace) TrendFigure(s TrendSettings, sm SmoothSettings, per string) 
 	units := map[string]bool{}
 	var unitList []string
 	for i, name := range s.Series {
-		ser, _ := w.Find(name)
+		ser, _ := w.trendSeries(name, s.Anomalies)
 		col := chart.Palette[i%7]
 		c.Lines = append(c.Lines, chart.Line{Name: ser.Label(), X: ser.Times, Y: ser.Values, Color: col, Width: 1})
 		if sv, label, err := Smooth(ser, sm); err != nil {
