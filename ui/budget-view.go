@@ -287,7 +287,8 @@ func (c *BudgetView) sourceOptions(key string) []Option {
 	case "dT":
 		return []Option{{analysis.SourceSeries, "period means of a series"}, {analysis.SourceTyped, "typed distribution"}}
 	case "dN":
-		return []Option{{analysis.SourceHeat, "heating rates of a heat content"}, {analysis.SourceSeries, "period means of an imbalance series"}, {analysis.SourceTyped, "typed distribution"}}
+		return []Option{{analysis.SourceHeat, "heating rates of a heat content"}, {analysis.SourceSeries, "period means of an imbalance series"},
+			{analysis.SourceModel, "the energy balance model's imbalance (Response view)"}, {analysis.SourceTyped, "typed distribution"}}
 	}
 	out := []Option{}
 	if _, ok := c.WS.Analysis().GuessForcing(); ok || c.q(key).Source == analysis.SourceForcing {
@@ -315,6 +316,26 @@ func (c *BudgetView) showHeat(key string) bool { return c.q(key).Source == analy
 func (c *BudgetView) showTyped(key string) bool { return c.q(key).Source == analysis.SourceTyped }
 
 func (c *BudgetView) showForcing(key string) bool { return c.q(key).Source == analysis.SourceForcing }
+
+func (c *BudgetView) showModel(key string) bool { return c.q(key).Source == analysis.SourceModel }
+
+// modelText says which model run gives dN.
+func (c *BudgetView) modelText() string {
+	if c.WS.Model == nil {
+		return "The imbalance N of the Response view's default model run (two-layer, spun up from 1850, forcing from the loaded components), taken as exact: compare it with the heat-content estimate. Open the Response view to choose the model."
+	}
+	return "The imbalance N of the model as last run in the Response view, taken as exact: compare it with the heat-content estimate."
+}
+
+// settings are the Monte Carlo settings from the form, with the Response
+// view's model for a dN taken from the model.
+func (c *BudgetView) settings(aw *analysis.Workspace) (analysis.SensitivitySettings, error) {
+	f := c.form
+	if f.DN.Source == analysis.SourceModel {
+		f.DN.Model = c.WS.Model
+	}
+	return aw.BudgetSettings(f)
+}
 
 func (c *BudgetView) forcingText() string {
 	fs, _ := c.WS.Analysis().GuessForcing()
@@ -469,7 +490,7 @@ func (c *BudgetView) formChanged() {
 func (c *BudgetView) refreshPreview() {
 	c.preview, c.formErr = nil, ""
 	aw := c.WS.Analysis()
-	s, err := aw.BudgetSettings(c.form)
+	s, err := c.settings(aw)
 	if err == nil {
 		c.preview, err = aw.BudgetPreviewFigure(s)
 	}
@@ -516,7 +537,7 @@ func (c *BudgetView) run(ev vugu.DOMEvent) {
 			return
 		}
 		aw := c.WS.Analysis()
-		s, err := aw.BudgetSettings(c.form)
+		s, err := c.settings(aw)
 		if err != nil {
 			c.formErr = err.Error()
 			return

@@ -1102,6 +1102,12 @@ func (c *BudgetView) Build(vgin *vugu.BuildIn) (vgout *vugu.BuildOut) {
 						vgn.SetInnerHTML(c.forcingText())
 						vgn = &vugu.VGNode{Type: vugu.VGNodeType(1), Data: "\n\t\t\t\t"}
 						vgparent.AppendChild(vgn)
+						vgn = &vugu.VGNode{Type: vugu.VGNodeType(3), Namespace: "", Data: "p", Attr: []vugu.VGAttribute{{Namespace: "", Key: "class", Val: "hl-small"}}}
+						vgparent.AppendChild(vgn)
+						vgn.AddAttrInterface("hidden", !c.showModel(k))
+						vgn.SetInnerHTML(c.modelText())
+						vgn = &vugu.VGNode{Type: vugu.VGNodeType(1), Data: "\n\t\t\t\t"}
+						vgparent.AppendChild(vgn)
 						vgn = &vugu.VGNode{Type: vugu.VGNodeType(3), Namespace: "", Data: "div", Attr: []vugu.VGAttribute{{Namespace: "", Key: "class", Val: "hl-row"}}}
 						vgparent.AppendChild(vgn)
 						vgn.AddAttrInterface("hidden", !c.showTyped(k))

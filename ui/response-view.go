@@ -459,6 +459,8 @@ func (c *ResponseView) refresh() {
 		return
 	}
 	c.view = v
+	run := q.Respond
+	c.WS.Model = &run
 }
 
 // --- handlers ----------------------------------------------------------------------

@@ -25,6 +25,7 @@ import (
 	"github.com/vugu/vugu/js"
 
 	"heatledger"
+	"heatledger/core/analysis"
 	"heatledger/core/chart"
 	"heatledger/core/series"
 )
@@ -123,6 +124,10 @@ type Workspace struct {
 	Banner []string
 	// Pending counts files being read in the background.
 	Pending int
+
+	// Model is the energy balance model as last run in the Response view;
+	// the Budget view can take dN from it (nil: the Response defaults).
+	Model *analysis.RespondSettings
 
 	// BeforeEvent, when set, runs inside Do before the action; tests use it
 	// to prove that a panic in any handler is caught.

@@ -33,6 +33,11 @@ const (
 	// SourceForcing: period means of the total forcing that core/forcing
 	// builds from the loaded components (see GuessForcing).
 	SourceForcing = "forcing"
+	// SourceModel: period means of the top-of-atmosphere imbalance N of an
+	// energy balance model run (QuantityForm.Model, else the Response
+	// view's defaults for the loaded series), taken as exact: the
+	// consistency check of the energy budget against the Response view.
+	SourceModel = "model"
 )
 
 // DistKind describes one kind of typed distribution as the form offers
@@ -157,6 +162,31 @@ type QuantityForm struct {
 	// the heat uptake as typed (e.g. 0.91).
 	OceanFraction string   `json:"ocean_fraction,omitempty"`
 	Typed         DistForm `json:"typed"`
+	// Model, for SourceModel, is the model run whose imbalance is used (nil:
+	// the Response view's defaults for the loaded series).
+	Model *RespondSettings `json:"model,omitempty"`
+}
+
+// ModelImbalance runs the energy balance model of s (nil: the Response
+// view's defaults for the loaded series) and returns its top-of-atmosphere
+// imbalance N (W m-2), the step means of the run.
+func (w *Workspace) ModelImbalance(s *RespondSettings) (*series.Series, error) {
+	if s == nil {
+		d := w.ResponseDefaults()
+		if len(d.Components) == 0 {
+			return nil, fmt.Errorf("no forcing components among the loaded series to run a model with")
+		}
+		s = &RespondSettings{Forcing: ForcingSettings{Components: d.Components}}
+	}
+	run := *s
+	run.Fit, run.Windows = nil, nil
+	r, err := w.Respond(run)
+	if err != nil {
+		return nil, err
+	}
+	n := r.Run.N.Clone()
+	n.Name = "model imbalance N"
+	return n, nil
 }
 
 // BudgetForm is the Budget view's energy-budget form: every field as typed.
@@ -420,6 +450,10 @@ func (w *Workspace) DefaultPeriods(f BudgetForm) (base, final [2]string) {
 					use(r.Total)
 				}
 			}
+		case SourceModel:
+			if n, err := w.ModelImbalance(q.Model); err == nil {
+				use(n)
+			}
 		}
 	}
 	y := strconv.Itoa
@@ -538,8 +572,18 @@ func (w *Workspace) budgetQuantity(role string, q QuantityForm, heatNoise string
 		if out.Sampling == "" {
 			out.Sampling = budget.SamplingNone
 		}
+	case SourceModel:
+		n, err := w.ModelImbalance(q.Model)
+		if err != nil {
+			return out, fmt.Errorf("%s: the energy balance model: %w", lab, err)
+		}
+		out.Data = n
+		if out.Name == "" {
+			out.Name = n.Name
+		}
+		out.Sampling = budget.SamplingNone
 	default:
-		return out, fmt.Errorf("%s: source %q: expected typed, series, heat or forcing", lab, q.Source)
+		return out, fmt.Errorf("%s: source %q: expected typed, series, heat, forcing or model", lab, q.Source)
 	}
 	return out, nil
 }

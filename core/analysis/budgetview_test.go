@@ -483,3 +483,50 @@ func TestDefaultPeriodsShort(t *testing.T) {
 		t.Errorf("periods %v %v", f.Base, f.Final)
 	}
 }
+
+// TestBudgetDNFromModel: dN may come from the energy balance model (the
+// Response view's run) as a consistency check. The resolved dN is exactly the
+// difference of the model imbalance's period means, computed here from
+// ModelImbalance directly.
+func TestBudgetDNFromModel(t *testing.T) {
+	w := demoWorkspace(t)
+	f := w.DefaultBudgetForm()
+	f.DN = QuantityForm{Source: SourceModel}
+	f.Draws, f.Sweep = "2000", false
+	s, err := w.BudgetSettings(f)
+	if err != nil {
+		t.Fatal(err)
+	}
+	v, err := w.SensitivityFigure(s, context.Background(), nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	n, err := w.ModelImbalance(nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	mean := func(from, to int) float64 {
+		var sum float64
+		k := 0
+		for i, v := range n.Values {
+			if y, _ := series.YearMonth(n.First + i); y >= from && y <= to {
+				sum += v
+				k++
+			}
+		}
+		return sum / float64(k)
+	}
+	want := mean(2011, 2025) - mean(1950, 1969)
+	var got *budget.InputSummary
+	for i, in := range v.Report.Result.Inputs {
+		if in.Role == "dN" {
+			got = &v.Report.Result.Inputs[i]
+		}
+	}
+	if got == nil || math.Abs(got.Center-want) > 1e-9 || got.SD != 0 {
+		t.Fatalf("dN from the model: %+v, want centre %v with no spread", got, want)
+	}
+	if !(v.Report.Result.ECS.Median > 0) {
+		t.Errorf("ECS median %v", v.Report.Result.ECS.Median)
+	}
+}
