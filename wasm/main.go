@@ -7,6 +7,9 @@
 // When the first chart has been drawn it marks the document:
 // document.body.dataset.ready = "1" and dataset.readyMs = the time since
 // navigation start in milliseconds, so tests and the bench can wait for it.
+//
+// It also sets window.heatledger (the JavaScript API) and, on
+// static/embed.html, draws one figure instead of the page: see api.go.
 package main
 
 import (
@@ -29,6 +32,12 @@ const mountPoint = "#hl-app"
 
 func main() {
 	mark("hl-go-start")
+	registerAPI() // window.heatledger, before the first render (wasm/api.go)
+	if req, ok := embedRequest(); ok {
+		// embed.html: one figure, read-only, no ui; stay alive for the API
+		runEmbed(req)
+		select {}
+	}
 	doc := js.Global().Get("document")
 	renderer, err := domrender.New(mountPoint)
 	if err != nil {

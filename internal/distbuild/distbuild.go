@@ -41,6 +41,8 @@ var Shell = []string{
 	"main.wasm",
 	"favicon.svg",
 	"manifest.webmanifest",
+	"embed.html", // one figure for other pages' iframes (wasm/api.go)
+	"embed.js",
 }
 
 // WorkerTemplate is the template of the service worker, and WorkerFile the

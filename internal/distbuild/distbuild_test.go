@@ -45,6 +45,8 @@ func testFS() fstest.MapFS {
 		"main.wasm":            {Data: wasm},
 		"favicon.svg":          {Data: []byte(`<svg xmlns="http://www.w3.org/2000/svg"/>`)},
 		"manifest.webmanifest": {Data: []byte(`{"name":"T"}`)},
+		"embed.html":           {Data: []byte("<!doctype html><p>e</p>\n")},
+		"embed.js":             {Data: []byte("// e\n")},
 		"sw.template.js":       {Data: []byte("const BUILD = \"__HL_BUILD__\";\nconst SHELL = __HL_SHELL__;\n")},
 	}
 }
