@@ -1260,9 +1260,7 @@ func (r *reader) buildLong(stampOf func(record) (stamp, error), timeCols []int) 
 		}
 		r.add(s)
 	}
-	if missing > 0 {
-		r.warn("%d value(s) treated as missing (empty cells, NA, NaN, -, *** or sentinel codes %s)", missing, sentinelText(r.opt.Sentinels))
-	}
+	r.missingNote(missing)
 	if daily {
 		r.warn("daily values averaged to monthly means; a month needs values on at least %d days, else it is missing", r.minDays())
 	}
@@ -1270,6 +1268,28 @@ func (r *reader) buildLong(stampOf func(record) (stamp, error), timeCols []int) 
 		r.warn("values multiplied by %g", r.opt.Scale)
 	}
 	return r.finish()
+}
+
+// missingNote says how many values were treated as missing: those inside
+// the series' spans (the steps that count as missing), and apart from them
+// the cells before a series' first or after its last value.
+func (r *reader) missingNote(cells int) {
+	if cells == 0 {
+		return
+	}
+	inside := 0
+	for _, s := range r.res.Series {
+		inside += s.Missing()
+	}
+	marks := fmt.Sprintf("empty cells, NA, NaN, -, *** or sentinel codes %s", sentinelText(r.opt.Sentinels))
+	switch {
+	case inside > 0 && cells > inside:
+		r.warn("%d value(s) inside the series' spans treated as missing (%s); %d more missing cells before a series' first or after its last value were left out", inside, marks, cells-inside)
+	case inside > 0:
+		r.warn("%d value(s) inside the series' spans treated as missing (%s)", inside, marks)
+	default:
+		r.warn("%d missing cell(s) before a series' first or after its last value were left out (%s)", cells, marks)
+	}
 }
 
 func sentinelText(s []float64) string {
@@ -1472,9 +1492,7 @@ func (r *reader) tryWide(yearCol int) (bool, error) {
 	for _, c := range extra {
 		r.warn("column %d %s is not a month: skipped (a wide table is read as twelve monthly columns)", c+1, quoteName(r.header[c]))
 	}
-	if missing > 0 {
-		r.warn("%d value(s) treated as missing (empty cells, NA, NaN, -, *** or sentinel codes %s)", missing, sentinelText(r.opt.Sentinels))
-	}
+	r.missingNote(missing)
 	if r.opt.Scale != 0 && r.opt.Scale != 1 {
 		r.warn("values multiplied by %g", r.opt.Scale)
 	}
