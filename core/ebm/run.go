@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"math"
 	"strings"
+	"sync"
 
 	"heatledger/core/forcing"
 	"heatledger/core/series"
@@ -126,9 +127,9 @@ func Simulate(f *forcing.Result, p Params, opt RunOptions) (*Run, error) {
 		return nil, err
 	}
 	n := f.Len()
-	// every output array comes from one allocation: 9 for the run and the
-	// scratch arrays, 2 per component
-	slab := make([]float64, (9+2*len(f.Components))*n)
+	// every output array comes from one allocation: 6 for the run, 2 per
+	// component; the 3 scratch arrays come from a pool
+	slab := make([]float64, (6+2*len(f.Components))*n)
 	take := func() []float64 {
 		v := slab[:n:n]
 		slab = slab[n:]
@@ -145,7 +146,9 @@ func Simulate(f *forcing.Result, p Params, opt RunOptions) (*Run, error) {
 		return &series.Series{Name: name, Unit: unit, Resolution: res, First: f.First, Times: times, Values: v}
 	}
 	var x0 [2]float64
-	eff, et, et0 := take(), take(), take()
+	scratch := getScratch(3 * n)
+	defer scratchPool.Put(scratch)
+	eff, et, et0 := (*scratch)[:n:n], (*scratch)[n:2*n:2*n], (*scratch)[2*n:3*n]
 	zc, zc0 := p.CWYrPerM2K*ZJPerWYrM2, p.C0WYrPerM2K*ZJPerWYrM2
 	for _, c := range f.Components {
 		cr := ComponentRun{Name: c.Name, Kind: c.Kind, Efficacy: c.Efficacy, ERF: c.ERF, HeatZJ: take()}
@@ -178,6 +181,19 @@ func Simulate(f *forcing.Result, p Params, opt RunOptions) (*Run, error) {
 	xe := [2]float64{r.EndT[n-1], r.EndT0[n-1]}
 	r.Final = State{TimeYear: start + float64(n)*dt, TK: xe[0], T0K: xe[1], NWPerM2: q.Imbalance(fe[n-1], xe), HeatZJ: r.HeatZJ[n-1]}
 	return r, nil
+}
+
+// scratchPool keeps Simulate's scratch arrays between runs (a fit runs the
+// model hundreds of times).
+var scratchPool sync.Pool
+
+func getScratch(n int) *[]float64 {
+	if p, ok := scratchPool.Get().(*[]float64); ok && cap(*p) >= n {
+		*p = (*p)[:n]
+		return p
+	}
+	b := make([]float64, n)
+	return &b
 }
 
 // spinup holds the resolved spin-up of a run.
