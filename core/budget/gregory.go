@@ -9,6 +9,7 @@ import (
 
 	"gonum.org/v1/gonum/stat/distuv"
 
+	"heatledger/core/linreg"
 	"heatledger/core/series"
 	"heatledger/core/trend"
 )
@@ -263,30 +264,9 @@ func Gregory(nSer, tSer *series.Series, opt GregoryOptions) (*GregoryResult, err
 // acf12 is the lag-1 and lag-2 autocorrelations of values on a regular
 // axis with NaN gaps (R's acf without gaps; pairs of present steps).
 func acf12(e []float64) (r1, r2 float64) {
-	var sum, n float64
-	for _, v := range e {
-		if !math.IsNaN(v) {
-			sum += v
-			n++
-		}
-	}
-	m := sum / n
-	var c0, c1, c2 float64
-	for i, v := range e {
-		if math.IsNaN(v) {
-			continue
-		}
-		d := v - m
-		c0 += d * d
-		if i+1 < len(e) && !math.IsNaN(e[i+1]) {
-			c1 += d * (e[i+1] - m)
-		}
-		if i+2 < len(e) && !math.IsNaN(e[i+2]) {
-			c2 += d * (e[i+2] - m)
-		}
-	}
-	if c0 == 0 {
+	r, _ := linreg.ACFGaps(e, 2)
+	if r == nil || math.IsNaN(r[1]) {
 		return 0, 0
 	}
-	return c1 / c0, c2 / c0
+	return r[1], r[2]
 }

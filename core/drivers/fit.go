@@ -390,36 +390,11 @@ func scaledCond(cols []column) float64 {
 // Jenkins 1976); with gaps it mirrors core/trend's treatment of its own
 // residuals.
 func ResidualACF12(e []float64) (r1, r2 float64) {
-	var sum float64
-	n := 0
-	for _, v := range e {
-		if !math.IsNaN(v) {
-			sum += v
-			n++
-		}
-	}
-	if n < 3 {
+	r, n := linreg.ACFGaps(e, 2)
+	if n < 3 || math.IsNaN(r[1]) {
 		return math.NaN(), math.NaN()
 	}
-	mean := sum / float64(n)
-	var c0, c1, c2 float64
-	for i, v := range e {
-		if math.IsNaN(v) {
-			continue
-		}
-		d := v - mean
-		c0 += d * d
-		if i+1 < len(e) && !math.IsNaN(e[i+1]) {
-			c1 += d * (e[i+1] - mean)
-		}
-		if i+2 < len(e) && !math.IsNaN(e[i+2]) {
-			c2 += d * (e[i+2] - mean)
-		}
-	}
-	if c0 == 0 {
-		return math.NaN(), math.NaN()
-	}
-	return c1 / c0, c2 / c0
+	return r[1], r[2]
 }
 
 // Inflation is the variance inflation factor for ARMA(1,1) residuals of

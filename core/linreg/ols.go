@@ -273,3 +273,45 @@ func ACF(e []float64, maxLag int) []float64 {
 	}
 	return r
 }
+
+// ACFGaps is ACF for values on a regular axis with NaN where a step has no
+// value: the mean of the present values is removed, c_k sums the products
+// of the pairs k steps apart that are both present, and r_k = c_k / c_0
+// with c_0 the sum of squares of every present value. Without gaps it is
+// R's acf exactly (Box and Jenkins 1976). It also returns the number of
+// present values; r is nil when there are none, and NaN (k >= 1) when they
+// have no variability.
+func ACFGaps(e []float64, maxLag int) (r []float64, present int) {
+	var sum float64
+	for _, v := range e {
+		if !math.IsNaN(v) {
+			sum += v
+			present++
+		}
+	}
+	if present == 0 || maxLag < 0 {
+		return nil, present
+	}
+	m := sum / float64(present)
+	c := make([]float64, maxLag+1)
+	for i, v := range e {
+		if math.IsNaN(v) {
+			continue
+		}
+		d := v - m
+		for k := 0; k <= maxLag && i+k < len(e); k++ {
+			if w := e[i+k]; !math.IsNaN(w) {
+				c[k] += d * (w - m)
+			}
+		}
+	}
+	r = make([]float64, maxLag+1)
+	for k := range r {
+		if c[0] == 0 {
+			r[k] = math.NaN()
+			continue
+		}
+		r[k] = c[k] / c[0]
+	}
+	return r, present
+}

@@ -262,3 +262,34 @@ func TestOLSRowsMatchesDesign(t *testing.T) {
 		t.Errorf("coefficients %v far from the truth (2, 3, -1)", f.Coef)
 	}
 }
+
+// TestACFGaps: without gaps ACFGaps equals ACF (R's acf); with a gap, the
+// lag-k sums skip pairs that include the missing step, checked against a
+// sum written out by hand.
+func TestACFGaps(t *testing.T) {
+	e := []float64{0.3, -1.2, 0.8, 2.1, -0.4, -0.9, 1.5, 0.2}
+	want := ACF(e, 3)
+	got, n := ACFGaps(e, 3)
+	if n != len(e) {
+		t.Fatalf("present %d", n)
+	}
+	for k := range want {
+		if math.Abs(got[k]-want[k]) > 1e-14 {
+			t.Errorf("lag %d: %v vs ACF %v", k, got[k], want[k])
+		}
+	}
+	g := []float64{1, 2, math.NaN(), 4, 3}
+	r, n := ACFGaps(g, 1)
+	// mean of 1, 2, 4, 3 is 2.5; deviations -1.5, -0.5, _, 1.5, 0.5
+	c0 := 2.25 + 0.25 + 2.25 + 0.25
+	c1 := (-1.5)*(-0.5) + 1.5*0.5 // pairs (1,2) and (4,3); pairs with the gap skipped
+	if n != 4 || math.Abs(r[1]-c1/c0) > 1e-15 {
+		t.Errorf("gappy lag 1: %v (n %d), want %v", r[1], n, c1/c0)
+	}
+	if r, _ := ACFGaps([]float64{math.NaN()}, 2); r != nil {
+		t.Errorf("no values: %v", r)
+	}
+	if r, _ := ACFGaps([]float64{2, 2, 2}, 1); !math.IsNaN(r[1]) {
+		t.Errorf("constant: %v", r)
+	}
+}

@@ -205,33 +205,11 @@ func BrokenStick(t, y []float64, tb float64, opt Options) (*BrokenStickResult, e
 // for missing steps) as R's acf computes them, using only pairs of steps
 // that are both present.
 func twACF12(resid []float64) (float64, float64) {
-	var sum float64
-	n := 0
-	for _, e := range resid {
-		if !math.IsNaN(e) {
-			sum += e
-			n++
-		}
-	}
-	if n == 0 {
+	r, _ := linreg.ACFGaps(resid, 2)
+	if r == nil {
 		return math.NaN(), math.NaN()
 	}
-	em := sum / float64(n)
-	var c0, c1, c2 float64
-	for i, e := range resid {
-		if math.IsNaN(e) {
-			continue
-		}
-		d := e - em
-		c0 += d * d
-		if i+1 < len(resid) && !math.IsNaN(resid[i+1]) {
-			c1 += d * (resid[i+1] - em)
-		}
-		if i+2 < len(resid) && !math.IsNaN(resid[i+2]) {
-			c2 += d * (resid[i+2] - em)
-		}
-	}
-	return c1 / c0, c2 / c0
+	return r[1], r[2]
 }
 
 func strconvYear(t float64) string {
