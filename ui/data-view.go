@@ -5,6 +5,8 @@ import (
 	"strings"
 
 	"github.com/vugu/vugu"
+
+	"heatledger/core/analysis"
 )
 
 // DataView is the Data view: load files (pick, drop, paste, demo), list
@@ -24,6 +26,11 @@ type DataView struct {
 	pasteName string
 	pasteText string
 	pasteNote string
+
+	// the reading-options form, open for one file at a time
+	readID   int
+	readForm analysis.ReadingForm
+	readNote string
 }
 
 // defaultPasteName names pasted text when the name field is empty.
@@ -87,6 +94,60 @@ func (c *DataView) onClear() {
 		c.pasteNote = ""
 	})
 }
+
+// onReadOptions opens (or closes) the reading-options form of a file,
+// filled with the options it was read with.
+func (c *DataView) onReadOptions(id int) {
+	c.WS.Do("opening the reading options", func() {
+		c.readNote = ""
+		if c.readID == id {
+			c.readID = 0
+			return
+		}
+		c.readID = id
+		for _, f := range c.WS.Files {
+			if f.ID == id {
+				c.readForm = f.Reading
+			}
+		}
+	})
+}
+
+func (c *DataView) readOpen(f *File) bool { return f.Data != nil && c.readID == f.ID }
+
+func (c *DataView) readPressed(f *File) string {
+	if c.readOpen(f) {
+		return "true"
+	}
+	return "false"
+}
+
+func (c *DataView) onReadField(field *string) func(vugu.DOMEvent) {
+	return func(ev vugu.DOMEvent) {
+		c.WS.Do("changing a reading option", func() { *field = ev.PropString("target", "value") })
+	}
+}
+
+func (c *DataView) onReadDelim(ev vugu.DOMEvent)   { c.onReadField(&c.readForm.Delimiter)(ev) }
+func (c *DataView) onReadMissing(ev vugu.DOMEvent) { c.onReadField(&c.readForm.Missing)(ev) }
+func (c *DataView) onReadScale(ev vugu.DOMEvent)   { c.onReadField(&c.readForm.Scale)(ev) }
+func (c *DataView) onReadDates(ev vugu.DOMEvent)   { c.onReadField(&c.readForm.DateOrder)(ev) }
+
+// onReread reads the file again with the form's options; a form error is
+// shown beside the form.
+func (c *DataView) onReread() {
+	c.WS.Do("reading the file again", func() {
+		if err := c.WS.Reread(c.readID, c.readForm); err != nil {
+			c.readNote = err.Error()
+			return
+		}
+		c.readNote = "Read again with these options."
+	})
+}
+
+var delimOptions = []Option{{"", "detect"}, {"comma", "comma"}, {"semicolon", "semicolon"}, {"tab", "tab"}, {"space", "runs of spaces"}}
+
+var dateOrderOptions = []Option{{"", "refuse D/M/Y-style dates"}, {"dmy", "day/month/year"}, {"mdy", "month/day/year"}}
 
 func (c *DataView) onRemove(id int) {
 	c.WS.Do("removing a file", func() { c.WS.Remove(id) })

@@ -52,6 +52,10 @@ type File struct {
 	// ErrLine is the text of the line the error points at (when the error
 	// names a line), shown under the message.
 	ErrLine string
+	// Data are the file's bytes and Reading the options it was read with,
+	// so it can be read again with others.
+	Data    []byte
+	Reading analysis.ReadingForm
 }
 
 // ErrText is the error in the form FILE:LINE:COLUMN: message.
@@ -215,8 +219,34 @@ func (w *Workspace) ReadFiles(env vugu.EventEnv, list js.Value) {
 // file with the name of a loaded one replaces it in place, keeping the
 // selection of the series whose names are unchanged.
 func (w *Workspace) Add(name string, data []byte) *File {
-	res, err := series.Read(name, data, series.Options{})
-	f := &File{Name: name, Bytes: len(data), Result: res, Err: err}
+	return w.addWith(name, data, analysis.ReadingForm{}, series.Options{})
+}
+
+// Reread reads a loaded file again with other reading options (delimiter,
+// missing-value codes, scale, date order). A form error is returned and the
+// file is left as it was.
+func (w *Workspace) Reread(id int, form analysis.ReadingForm) error {
+	opt, err := form.Options()
+	if err != nil {
+		return err
+	}
+	for _, f := range w.Files {
+		if f.ID == id {
+			if f.Data == nil {
+				return errors.New("this file's bytes are not kept: load it again")
+			}
+			demo := f.Demo
+			nf := w.addWith(f.Name, f.Data, form, opt)
+			nf.Demo = demo
+			return nil
+		}
+	}
+	return errors.New("the file is no longer loaded")
+}
+
+func (w *Workspace) addWith(name string, data []byte, form analysis.ReadingForm, opt series.Options) *File {
+	res, err := series.Read(name, data, opt)
+	f := &File{Name: name, Bytes: len(data), Result: res, Err: err, Data: data, Reading: form}
 	if err != nil {
 		f.Result = nil
 		f.ErrLine = errorLine(data, err)
