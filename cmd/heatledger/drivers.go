@@ -174,24 +174,9 @@ func runAdjust(args []string, stdout, stderr io.Writer) error {
 		s.Change = &[2][2]string{ws[0], ws[1]}
 	}
 
-	opt, err := rf.options()
+	w, err := loadWorkspace(&rf, names, stderr)
 	if err != nil {
 		return err
-	}
-	files, err := readFiles(names)
-	if err != nil {
-		return err
-	}
-	w := analysis.NewWorkspace(files, opt)
-	failed := false
-	for _, l := range w.Files {
-		if l.Err != nil {
-			fmt.Fprintln(stderr, l.Err)
-			failed = true
-		}
-	}
-	if failed {
-		return errReported
 	}
 	r, err := w.Adjust(s)
 	if err != nil {

@@ -163,8 +163,6 @@ func newResponseCommon(name, synopsis string, stderr io.Writer, help func(io.Wri
 	c := &common{fs: newFlagSet(name, stderr)}
 	c.rf.register(c.fs)
 	c.asJSON = c.fs.Bool("json", false, "print one JSON object")
-	none := "-"
-	c.series = &none // workspace() requires it; these commands do not use it
 	c.fs.Usage = func() {
 		fmt.Fprintln(stderr, "usage: heatledger "+name+" "+synopsis)
 		if help != nil {

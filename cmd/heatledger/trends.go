@@ -23,7 +23,8 @@ func init() {
 	)
 }
 
-// common sets up a command's flags: reading options, --json and --series.
+// common sets up a command's flags: reading options, --json and --series
+// (series is nil for commands that name their series otherwise).
 type common struct {
 	fs     *flag.FlagSet
 	rf     readFlags
@@ -52,10 +53,17 @@ func (c *common) workspace(args []string, stderr io.Writer) (*analysis.Workspace
 	if len(names) == 0 {
 		return nil, usageError{"no input files: give one or more CSV files"}
 	}
-	if *c.series == "" {
+	if c.series != nil && *c.series == "" {
 		return nil, usageError{"--series NAME is required"}
 	}
-	opt, err := c.rf.options()
+	return loadWorkspace(&c.rf, names, stderr)
+}
+
+// loadWorkspace reads the named files with the reading flags. Every file
+// that fails is reported on stderr as FILE:LINE:COLUMN: message, and then
+// the command fails (exit 1).
+func loadWorkspace(rf *readFlags, names []string, stderr io.Writer) (*analysis.Workspace, error) {
+	opt, err := rf.options()
 	if err != nil {
 		return nil, err
 	}
