@@ -134,25 +134,12 @@ func halves(s *series.Series) (aFrom, aTo, bFrom, bTo string) {
 	if s == nil || s.Len() == 0 {
 		return
 	}
-	y0, y1 := firstWholeYear(s), lastWholeYear(s)
+	y0, y1 := s.WholeYears()
 	if y1-y0 < 9 {
 		return
 	}
 	mid := (y0 + y1) / 2
 	return strconv.Itoa(y0), strconv.Itoa(mid), strconv.Itoa(mid + 1), strconv.Itoa(y1)
-}
-
-// firstWholeYear is the first year whose January (or whose annual value)
-// the series holds.
-func firstWholeYear(s *series.Series) int {
-	if s.Resolution == series.Annual {
-		return s.First
-	}
-	y, m := series.YearMonth(s.First)
-	if m == 1 {
-		return y
-	}
-	return y + 1
 }
 
 // Refs lists the series to choose from (called first by the template). A

@@ -233,24 +233,11 @@ func (c *TrendsView) preset(which string) {
 				return
 			}
 			// the last n complete calendar years
-			endY := lastWholeYear(s)
+			_, endY := s.WholeYears()
 			c.from, c.to = strconv.Itoa(endY-n+1), strconv.Itoa(endY)
 		}
 		c.refresh()
 	})
-}
-
-// lastWholeYear is the last year whose December (or whose annual value) the
-// series reaches.
-func lastWholeYear(s *series.Series) int {
-	if s.Resolution == series.Annual {
-		return s.Last()
-	}
-	y, m := series.YearMonth(s.Last())
-	if m == 12 {
-		return y
-	}
-	return y - 1
 }
 
 func (c *TrendsView) mainMarkup() vugu.HTML {

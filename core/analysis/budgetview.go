@@ -288,18 +288,7 @@ func (w *Workspace) DefaultHeatSettings() HeatSettings {
 		HeatInput: HeatInput{Area: "earth", Noise: "ar1", OceanFraction: budget.OceanFractionAR6},
 	}
 	if s, err := w.Find(hs.Series); err == nil && s.Len() > 0 {
-		last := s.Last()
-		if s.Resolution == series.Monthly {
-			y, m := series.YearMonth(last)
-			last = y
-			if m != 12 {
-				last = y - 1
-			}
-		}
-		first := s.First
-		if s.Resolution == series.Monthly {
-			first, _ = series.YearMonth(s.First)
-		}
+		first, last := s.WholeYears()
 		if last-first+1 > 30 {
 			hs.From, hs.To = strconv.Itoa(last-19), strconv.Itoa(last)
 		}
@@ -370,22 +359,6 @@ func ForcingSummary(fs ForcingSettings) string {
 	return strings.Join(parts, ", ")
 }
 
-// wholeYears is the first and last calendar year a series covers fully.
-func wholeYears(s *series.Series) (int, int) {
-	if s.Resolution == series.Annual {
-		return s.First, s.Last()
-	}
-	fy, fm := series.YearMonth(s.First)
-	ly, lm := series.YearMonth(s.Last())
-	if fm != 1 {
-		fy++
-	}
-	if lm != 12 {
-		ly--
-	}
-	return fy, ly
-}
-
 // DefaultBudgetForm is the energy-budget form for the loaded series: dT
 // from surface_anomaly (else the first series in K), dF from the forcing
 // GuessForcing builds (else a typed placeholder), dN from the heating rate
@@ -435,7 +408,7 @@ func (w *Workspace) DefaultPeriods(f BudgetForm) (base, final [2]string) {
 		if s == nil || s.Len() == 0 {
 			return
 		}
-		a, b := wholeYears(s)
+		a, b := s.WholeYears()
 		lo, hi, found = max(lo, a), min(hi, b), true
 	}
 	for _, q := range append([]QuantityForm{f.DT, f.DN}, f.DF...) {

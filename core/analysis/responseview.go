@@ -187,30 +187,13 @@ func (w *Workspace) ResponseDefaults() ResponseDefaults {
 	}
 	if d.Record != "" {
 		if s, err := w.Find(d.Record); err == nil && s.Len() > 0 {
-			y0, y1 := respWholeYears(s)
+			y0, y1 := s.WholeYears()
 			if y1 > y0 {
 				d.From, d.To = strconv.Itoa(y0), strconv.Itoa(y1)
 			}
 		}
 	}
 	return d
-}
-
-// respWholeYears is the first and last calendar year a series covers from
-// January to December (its first and last years when annual).
-func respWholeYears(s *series.Series) (int, int) {
-	if s.Resolution == series.Annual {
-		return s.First, s.Last()
-	}
-	fy, fm := series.YearMonth(s.First)
-	ly, lm := series.YearMonth(s.Last())
-	if fm != 1 {
-		fy++
-	}
-	if lm != 12 {
-		ly--
-	}
-	return fy, ly
 }
 
 // ResponseRequest is what the Response view asks for: a model run (Respond

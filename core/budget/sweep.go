@@ -194,7 +194,7 @@ func SweepEnds(in Inputs, opt SweepOptions) (first, last, years int, err error) 
 	if first == 0 || last == 0 {
 		lo, hi := math.MinInt, math.MaxInt
 		for _, s := range ss {
-			a, b := completeYears(s)
+			a, b := s.WholeYears()
 			lo, hi = max(lo, a), min(hi, b)
 		}
 		if first == 0 {
@@ -227,21 +227,4 @@ func allTypedBase(in Inputs) bool {
 
 func finalPeriod(end, years int) Period {
 	return Period{From: strconv.Itoa(end - years + 1), To: strconv.Itoa(end)}
-}
-
-// completeYears returns the first and last calendar years the series
-// covers in full (all 12 months of a monthly series, ignoring gaps).
-func completeYears(s *series.Series) (first, last int) {
-	if s.Resolution == series.Annual {
-		return s.First, s.Last()
-	}
-	fy, fm := series.YearMonth(s.First)
-	ly, lm := series.YearMonth(s.Last())
-	if fm != 1 {
-		fy++
-	}
-	if lm != 12 {
-		ly--
-	}
-	return fy, ly
 }

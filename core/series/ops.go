@@ -246,3 +246,22 @@ func (s *Series) At(idx int) float64 {
 	}
 	return s.Values[k]
 }
+
+// WholeYears is the first and last calendar year the series' axis covers
+// from January to December (an annual series: its first and last years).
+// Gaps inside the axis do not count against a year. last < first when the
+// axis holds no whole year.
+func (s *Series) WholeYears() (first, last int) {
+	if s.Resolution == Annual {
+		return s.First, s.Last()
+	}
+	fy, fm := YearMonth(s.First)
+	ly, lm := YearMonth(s.Last())
+	if fm != 1 {
+		fy++
+	}
+	if lm != 12 {
+		ly--
+	}
+	return fy, ly
+}

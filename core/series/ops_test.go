@@ -131,3 +131,21 @@ func TestAlign(t *testing.T) {
 		t.Error("mixed resolutions aligned")
 	}
 }
+
+func TestWholeYears(t *testing.T) {
+	cases := []struct {
+		s           *Series
+		first, last int
+	}{
+		{monthly(MonthIndex(1950, 1), make([]float64, 24)...), 1950, 1951},
+		{monthly(MonthIndex(1950, 2), make([]float64, 23)...), 1951, 1951},
+		{monthly(MonthIndex(1950, 1), make([]float64, 23)...), 1950, 1950},
+		{monthly(MonthIndex(1950, 3), make([]float64, 6)...), 1951, 1949},
+		{New("a", "", Annual, 1990, make([]float64, 5)), 1990, 1994},
+	}
+	for _, c := range cases {
+		if f, l := c.s.WholeYears(); f != c.first || l != c.last {
+			t.Errorf("%s..%s: %d-%d, want %d-%d", StepLabel(c.s.Resolution, c.s.First), StepLabel(c.s.Resolution, c.s.Last()), f, l, c.first, c.last)
+		}
+	}
+}
