@@ -61,19 +61,11 @@ func (w *Workspace) Adjust(s AdjustSettings) (*drivers.Result, error) {
 	}
 	var ds []drivers.Driver
 	for _, d := range s.Drivers {
-		ser, err := w.Find(d.Name)
+		dr, err := w.driver(d)
 		if err != nil {
-			return nil, fmt.Errorf("driver: %w", err)
+			return nil, err
 		}
-		lo := drivers.DefaultMinLag
-		if d.MinLag != nil {
-			lo = *d.MinLag
-		}
-		hi := max(lo, drivers.DefaultMaxLag)
-		if d.MaxLag != nil {
-			hi = *d.MaxLag
-		}
-		ds = append(ds, drivers.Driver{Series: ser, MinLag: lo, MaxLag: hi, Smooth3: d.Smooth3, Detrend: d.Detrend})
+		ds = append(ds, dr)
 	}
 	opt := drivers.Options{Harmonics: s.Harmonics, Trend: s.Trend, From: s.From, To: s.To, Noise: s.Noise, Level: s.Level}
 	for _, b := range s.Breaks {
@@ -95,4 +87,22 @@ func (w *Workspace) Adjust(s AdjustSettings) (*drivers.Result, error) {
 		opt.Change = &[2]drivers.Window{{From: s.Change[0][0], To: s.Change[0][1]}, {From: s.Change[1][0], To: s.Change[1][1]}}
 	}
 	return drivers.Fit(target, ds, opt)
+}
+
+// driver resolves one driver setting: its series and its lag range (the
+// engine's defaults where the setting leaves them out).
+func (w *Workspace) driver(d AdjustDriver) (drivers.Driver, error) {
+	ser, err := w.Find(d.Name)
+	if err != nil {
+		return drivers.Driver{}, fmt.Errorf("driver: %w", err)
+	}
+	lo := drivers.DefaultMinLag
+	if d.MinLag != nil {
+		lo = *d.MinLag
+	}
+	hi := max(lo, drivers.DefaultMaxLag)
+	if d.MaxLag != nil {
+		hi = *d.MaxLag
+	}
+	return drivers.Driver{Series: ser, MinLag: lo, MaxLag: hi, Smooth3: d.Smooth3, Detrend: d.Detrend}, nil
 }

@@ -415,22 +415,14 @@ func (w *Workspace) adjustOnResponse(target *series.Series, fit *ebm.FitResult, 
 	resp.Name = "model response"
 	var ds []drivers.Driver
 	for k, d := range fs.Drivers {
-		ser, err := w.Find(d.Name)
+		dr, err := w.driver(d)
 		if err != nil {
-			return nil, fmt.Errorf("driver: %w", err)
-		}
-		lo := drivers.DefaultMinLag
-		if d.MinLag != nil {
-			lo = *d.MinLag
-		}
-		hi := max(lo, drivers.DefaultMaxLag)
-		if d.MaxLag != nil {
-			hi = *d.MaxLag
+			return nil, err
 		}
 		if lags != nil {
-			lo, hi = lags[k], lags[k]
+			dr.MinLag, dr.MaxLag = lags[k], lags[k]
 		}
-		ds = append(ds, drivers.Driver{Series: ser, MinLag: lo, MaxLag: hi, Smooth3: d.Smooth3, Detrend: d.Detrend})
+		ds = append(ds, dr)
 	}
 	opt := drivers.Options{Trend: drivers.TrendSeries, TrendSeries: resp, From: fs.From, To: fs.To, Noise: noise, Level: level}
 	for _, win := range windows {
