@@ -250,13 +250,6 @@ func isFluxUnit(u string) bool {
 	return false
 }
 
-func ref(s *series.Series) string {
-	if s.Source == "" {
-		return s.Name
-	}
-	return s.Source + ":" + s.Name
-}
-
 // pickSeries returns the ref of the series named name, else of the first
 // series for which ok holds, else "".
 func (w *Workspace) pickSeries(name string, ok func(*series.Series) bool) string {

@@ -90,13 +90,6 @@ func respIndexName(n string) bool {
 	return false
 }
 
-func respRef(s *series.Series) string {
-	if s.Source == "" {
-		return s.Name
-	}
-	return s.Source + ":" + s.Name
-}
-
 // ResponseDefaults are the Response view's first settings for a workspace,
 // chosen so that the demo world gives a finished run without typing.
 type ResponseDefaults struct {
@@ -133,7 +126,7 @@ func (w *Workspace) ResponseDefaults() ResponseDefaults {
 		var cs []ForcingComponent
 		for _, s := range l.Result.Series {
 			if k := ForcingKindGuess(s.Name, s.Unit); k != "" {
-				cs = append(cs, ForcingComponent{Series: respRef(s), Name: s.Name, Kind: k})
+				cs = append(cs, ForcingComponent{Series: ref(s), Name: s.Name, Kind: k})
 			}
 		}
 		if len(cs) > len(d.Components) {
@@ -150,35 +143,35 @@ func (w *Workspace) ResponseDefaults() ResponseDefaults {
 	}
 	all := w.All()
 	temp := func(s *series.Series) bool {
-		return respTemperatureUnit(s.Unit) && !respIndexName(s.Name) && !inComps[respRef(s)]
+		return respTemperatureUnit(s.Unit) && !respIndexName(s.Name) && !inComps[ref(s)]
 	}
 	for _, s := range all {
 		if s.Name == "surface_anomaly" && temp(s) {
-			d.Record = respRef(s)
+			d.Record = ref(s)
 			break
 		}
 	}
 	for _, s := range all {
-		if !temp(s) || respRef(s) == d.Record {
+		if !temp(s) || ref(s) == d.Record {
 			continue
 		}
 		if d.Record == "" {
-			d.Record = respRef(s)
+			d.Record = ref(s)
 		} else if d.Second == "" {
-			d.Second = respRef(s)
+			d.Second = ref(s)
 		}
 	}
 	for _, s := range all {
 		if strings.EqualFold(strings.TrimSpace(s.Unit), "zj") && (d.Heat == "" || s.Name == "ocean_heat") {
-			d.Heat = respRef(s)
+			d.Heat = ref(s)
 			if s.Name == "ocean_heat" {
 				break
 			}
 		}
 	}
 	for _, s := range all {
-		if respIndexName(s.Name) && respRef(s) != d.Record && !inComps[respRef(s)] {
-			d.Drivers = append(d.Drivers, respRef(s))
+		if respIndexName(s.Name) && ref(s) != d.Record && !inComps[ref(s)] {
+			d.Drivers = append(d.Drivers, ref(s))
 		}
 	}
 	d.Free = []string{ebm.FreeLambda, ebm.FreeGamma}

@@ -70,6 +70,15 @@ func (w *Workspace) Find(ref string) (*series.Series, error) {
 	return nil, fmt.Errorf("series name %q is in several files: say which with FILE:NAME (%s)", ref, strings.Join(refs, ", "))
 }
 
+// ref is the name Find resolves to exactly this series: "FILE:NAME", or
+// NAME for a series that came from no file.
+func ref(s *series.Series) string {
+	if s.Source == "" {
+		return s.Name
+	}
+	return s.Source + ":" + s.Name
+}
+
 func baseName(p string) string {
 	p = strings.ReplaceAll(p, "\\", "/")
 	if i := strings.LastIndex(p, "/"); i >= 0 {
