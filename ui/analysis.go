@@ -112,6 +112,16 @@ func (w *Workspace) Save(name, mime string, data []byte) {
 	ex.Save(name, mime, data)
 }
 
+// CopyTable puts a table on the clipboard as tab-separated text and
+// returns the note to show: what was copied, or that there is nothing yet.
+func (w *Workspace) CopyTable(t analysis.Table) string {
+	if len(t.Columns) == 0 {
+		return "Nothing to copy yet."
+	}
+	w.Copy(t.TSV())
+	return t.Title + ": copied as tab-separated text."
+}
+
 // Copy puts text on the clipboard through the host.
 func (w *Workspace) Copy(text string) {
 	ex, ok := w.Host.(Exporter)

@@ -716,15 +716,7 @@ func (c *BudgetView) heatStem() string {
 
 // copyTable puts a table on the clipboard as tab-separated text.
 func (c *BudgetView) copyTable(name string) {
-	c.WS.Do("copying the table", func() {
-		t := c.table(name)
-		if len(t.Columns) == 0 {
-			c.note = "Nothing to copy yet."
-			return
-		}
-		c.WS.Copy(t.TSV())
-		c.note = t.Title + ": copied as tab-separated text."
-	})
+	c.WS.Do("copying the table", func() { c.note = c.WS.CopyTable(c.table(name)) })
 }
 
 // download offers "csv:TABLE", "json:heat", "json:sensitivity",

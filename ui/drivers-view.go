@@ -467,15 +467,7 @@ func (c *DriversView) stem() string {
 
 // copyTable puts one of the tables on the clipboard as tab-separated text.
 func (c *DriversView) copyTable(name string) {
-	c.WS.Do("copying the table", func() {
-		t := c.table(name)
-		if len(t.Columns) == 0 {
-			c.note = "Nothing to copy yet."
-			return
-		}
-		c.WS.Copy(t.TSV())
-		c.note = t.Title + ": copied as tab-separated text."
-	})
+	c.WS.Do("copying the table", func() { c.note = c.WS.CopyTable(c.table(name)) })
 }
 
 // download offers the series as CSV (the target, fitted, adjusted series

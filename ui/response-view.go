@@ -933,15 +933,7 @@ func (c *ResponseView) stem() string {
 
 // copyTable puts one of the tables on the clipboard as tab-separated text.
 func (c *ResponseView) copyTable(name string) {
-	c.WS.Do("copying the table", func() {
-		t := c.table(name)
-		if len(t.Columns) == 0 {
-			c.say(name, "Nothing to copy yet.")
-			return
-		}
-		c.WS.Copy(t.TSV())
-		c.say(name, t.Title+": copied as tab-separated text.")
-	})
+	c.WS.Do("copying the table", func() { c.say(name, c.WS.CopyTable(c.table(name))) })
 }
 
 // saveCSV offers one of the tables as a CSV file.
