@@ -496,38 +496,7 @@ func (s *ssm) filter(cols [][]float64, w [][]float64) (sumLog float64, used int)
 		if steady {
 			continue
 		}
-		// Filtered covariance.
-		if !miss {
-			for i := 0; i < r; i++ {
-				for j := 0; j < r; j++ {
-					Pf[i*r+j] = P[i*r+j] - P[i*r]*P[j]/F
-				}
-			}
-		} else {
-			copy(Pf, P)
-		}
-		// Pn = T Pf T' + R R'.
-		for i := 0; i < r; i++ {
-			for j := 0; j < r; j++ {
-				v := s.phi[i] * Pf[j]
-				if i+1 < r {
-					v += Pf[(i+1)*r+j]
-				}
-				TP[i*r+j] = v
-			}
-		}
-		change := 0.0
-		for i := 0; i < r; i++ {
-			for j := 0; j < r; j++ {
-				v := s.phi[j] * TP[i*r]
-				if j+1 < r {
-					v += TP[i*r+j+1]
-				}
-				v += s.rv[i] * s.rv[j]
-				Pn[i*r+j] = v
-				change = math.Max(change, math.Abs(v-P[i*r+j]))
-			}
-		}
+		change := s.predictCov(P, Pf, TP, Pn, miss)
 		P, Pn = Pn, P
 		if !miss && change < 1e-15*math.Max(1, P[0]) {
 			// Converged: the next step's F and K equal this one's to
@@ -775,38 +744,55 @@ func (s *ssm) innovationVariances(n int, y []float64) []float64 {
 	P := append([]float64(nil), s.p0...)
 	Pf := make([]float64, r*r)
 	TP := make([]float64, r*r)
+	Pn := make([]float64, r*r)
 	F := make([]float64, n)
 	for t := 0; t < n; t++ {
 		F[t] = P[0]
-		if !math.IsNaN(y[t]) {
-			for i := 0; i < r; i++ {
-				for j := 0; j < r; j++ {
-					Pf[i*r+j] = P[i*r+j] - P[i*r]*P[j]/F[t]
-				}
-			}
-		} else {
-			copy(Pf, P)
-		}
-		for i := 0; i < r; i++ {
-			for j := 0; j < r; j++ {
-				v := s.phi[i] * Pf[j]
-				if i+1 < r {
-					v += Pf[(i+1)*r+j]
-				}
-				TP[i*r+j] = v
-			}
-		}
-		for i := 0; i < r; i++ {
-			for j := 0; j < r; j++ {
-				v := s.phi[j] * TP[i*r]
-				if j+1 < r {
-					v += TP[i*r+j+1]
-				}
-				P[i*r+j] = v + s.rv[i]*s.rv[j]
-			}
-		}
+		s.predictCov(P, Pf, TP, Pn, math.IsNaN(y[t]))
+		P, Pn = Pn, P
 	}
 	return F
+}
+
+// predictCov is the covariance half of one Kalman step for the state space
+// form of the ARMA errors (F = P[0] the unit innovation variance): the
+// filtered covariance Pf = P - P e1 e1' P / F (P itself at a missing step),
+// then the prediction Pn = T Pf T' + R R' with (T a)_i = phi_i a_0 + a_{i+1}.
+// Pf and TP are scratch. It returns the largest change |Pn - P|, by which
+// the filter sees that it has reached its steady state.
+func (s *ssm) predictCov(P, Pf, TP, Pn []float64, miss bool) (change float64) {
+	r := s.r
+	if !miss {
+		F := P[0]
+		for i := 0; i < r; i++ {
+			for j := 0; j < r; j++ {
+				Pf[i*r+j] = P[i*r+j] - P[i*r]*P[j]/F
+			}
+		}
+	} else {
+		copy(Pf, P)
+	}
+	for i := 0; i < r; i++ {
+		for j := 0; j < r; j++ {
+			v := s.phi[i] * Pf[j]
+			if i+1 < r {
+				v += Pf[(i+1)*r+j]
+			}
+			TP[i*r+j] = v
+		}
+	}
+	for i := 0; i < r; i++ {
+		for j := 0; j < r; j++ {
+			v := s.phi[j] * TP[i*r]
+			if j+1 < r {
+				v += TP[i*r+j+1]
+			}
+			v += s.rv[i] * s.rv[j]
+			Pn[i*r+j] = v
+			change = math.Max(change, math.Abs(v-P[i*r+j]))
+		}
+	}
+	return change
 }
 
 // starts returns starting points (transformed) for the optimiser.
