@@ -533,7 +533,11 @@ func (r *reader) findTable() error {
 		if skip < 0 {
 			skip = first
 		}
-		r.warn("skipped %d line(s) of notes above the table (lines %d-%d)", skip, r.recs[0].line, r.recs[skip-1].line)
+		if a, b := r.recs[0].line, r.recs[skip-1].line; a == b {
+			r.warn("skipped 1 line of notes above the table (line %d)", a)
+		} else {
+			r.warn("skipped %d lines of notes above the table (lines %d-%d)", skip, a, b)
+		}
 	}
 	r.res.Header = append([]string(nil), r.header...)
 	r.recs = r.recs[first:]
