@@ -95,7 +95,8 @@ type GregoryResult struct {
 //
 // by ordinary least squares over the times where both are present, with
 // the trend engine's noise models applied to the residuals in time order
-// (the formulas of trend.Window with the time axis replaced by T):
+// (trend.NoiseInflation; the formulas of trend.Window with the time axis
+// replaced by T):
 // white: s^2 = sum e^2/(n - 2), dof n - 2; ar1 (Santer et al. 2008):
 // n_e = n (1 - r1)/(1 + r1) (capped at n), s^2 = sum e^2/(n_e - 2), dof
 // n_e - 2, refused when n_e <= 3; arma11 (Foster and Rahmstorf 2011):
@@ -196,37 +197,30 @@ func Gregory(nSer, tSer *series.Series, opt GregoryOptions) (*GregoryResult, err
 	}
 	r.Rho1, r.Rho2 = acf12(e)
 	var infl, dof, s2 float64
-	r.NEff, r.Nu = fn, 1
+	inf := trend.NoiseInflation(noise, n, r.Rho1, r.Rho2)
+	r.NEff, r.Nu = inf.NEff, inf.Nu
 	switch noise {
 	case trend.NoiseWhite:
 		s2, infl, dof = rss/(fn-2), 1, fn-2
 	case trend.NoiseAR1:
-		ne := fn
-		if r.Rho1 > 0 {
-			ne = fn * (1 - r.Rho1) / (1 + r.Rho1)
-		} else {
+		if inf.Fallback == trend.FallbackCapped {
 			r.Warnings = append(r.Warnings, fmt.Sprintf("ar1: the residuals' lag-1 autocorrelation r1 = %.3f is not positive: n_e is capped at n = %d (common practice)", r.Rho1, n))
 		}
-		r.NEff = ne
-		if !(ne > 3) {
-			return nil, fmt.Errorf("Gregory regression, ar1: effective sample size n_e = %.2f (n = %d, r1 = %.3f) is 3 or less: too few independent values", ne, n, r.Rho1)
+		if !(r.NEff > 3) {
+			return nil, fmt.Errorf("Gregory regression, ar1: effective sample size n_e = %.2f (n = %d, r1 = %.3f) is 3 or less: too few independent values", r.NEff, n, r.Rho1)
 		}
-		s2, infl, dof = rss/(ne-2), 1, ne-2
+		s2, infl, dof = rss/(r.NEff-2), 1, r.NEff-2
 	case trend.NoiseARMA11:
-		nu := 1.0
-		if !(r.Rho1 > 0) {
+		switch inf.Fallback {
+		case trend.FallbackWhite:
 			r.Warnings = append(r.Warnings, fmt.Sprintf("arma11: the residuals' lag-1 autocorrelation rho1 = %.3f is not positive: the white-noise uncertainty is used (nu = 1)", r.Rho1))
-		} else if phi := r.Rho2 / r.Rho1; phi >= 0 && phi < 1 {
-			nu = 1 + 2*r.Rho1/(1-phi)
-		} else {
-			nu = (1 + r.Rho1) / (1 - r.Rho1)
-			r.Warnings = append(r.Warnings, fmt.Sprintf("arma11: phi = rho2/rho1 = %.3f lies outside [0, 1): AR(1) with phi = rho1 is used, nu = (1 + rho1)/(1 - rho1)", phi))
+		case trend.FallbackAR1:
+			r.Warnings = append(r.Warnings, fmt.Sprintf("arma11: phi = rho2/rho1 = %.3f lies outside [0, 1): AR(1) with phi = rho1 is used, nu = (1 + rho1)/(1 - rho1)", r.Rho2/r.Rho1))
 		}
-		r.Nu, r.NEff = nu, fn/nu
 		if !(r.NEff > 3) {
 			return nil, fmt.Errorf("Gregory regression, arma11: effective sample size n/nu = %.2f is 3 or less: too few independent values", r.NEff)
 		}
-		s2, infl, dof = rss/(fn-2), nu, r.NEff-2
+		s2, infl, dof = rss/(fn-2), r.Nu, r.NEff-2
 	}
 	r.DOF = dof
 	seB := math.Sqrt(s2 * infl / sxx)

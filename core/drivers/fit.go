@@ -403,25 +403,26 @@ func ResidualACF12(e []float64) (r1, r2 float64) {
 //
 //	phi = rho2 / rho1,   nu = 1 + 2 rho1 / (1 - phi),   SE_ARMA = SE_OLS sqrt(nu),
 //
-// rho1, rho2 the lag-1 and lag-2 residual autocorrelations. The fall-backs
-// are core/trend's arma11 ones (mirrored here because trend keeps its helper
-// unexported): rho1 <= 0 (or NaN) means no positive autocorrelation to
-// correct for, nu = 1 and phi NaN; phi outside [0, 1) makes the ARMA(1,1)
-// estimate unusable, so AR(1) with phi = rho1, nu = (1 + rho1)/(1 - rho1).
-// note explains a fall-back (empty otherwise). Applied here to every
-// coefficient, as Foster and Rahmstorf apply it to the trend.
+// rho1, rho2 the lag-1 and lag-2 residual autocorrelations, computed by
+// trend.NoiseInflation with its arma11 fall-backs: rho1 <= 0 (or NaN) means
+// no positive autocorrelation to correct for, nu = 1 and phi NaN; phi
+// outside [0, 1) makes the ARMA(1,1) estimate unusable, so AR(1) with
+// phi = rho1, nu = (1 + rho1)/(1 - rho1) (+Inf when rho1 >= 1). note
+// explains a fall-back (empty otherwise). Applied here to every
+// coefficient, as Foster and Rahmstorf apply it to the trend; kept as a
+// wrapper for its notes and for core/ebm.
 func Inflation(rho1, rho2 float64) (nu, phi float64, note string) {
-	if !(rho1 > 0) {
-		return 1, math.NaN(), fmt.Sprintf("arma11: the residuals' lag-1 autocorrelation rho1 = %.3f is not positive: no autocorrelation to correct for, the ARMA(1,1) standard errors equal the OLS ones (nu = 1)", rho1)
+	inf := trend.NoiseInflation(trend.NoiseARMA11, 0, rho1, rho2)
+	switch inf.Fallback {
+	case trend.FallbackWhite:
+		return inf.Nu, inf.Phi, fmt.Sprintf("arma11: the residuals' lag-1 autocorrelation rho1 = %.3f is not positive: no autocorrelation to correct for, the ARMA(1,1) standard errors equal the OLS ones (nu = 1)", rho1)
+	case trend.FallbackAR1:
+		if rho1 >= 1 {
+			return math.Inf(1), inf.Phi, "arma11: the residuals' lag-1 autocorrelation is 1: the inflation is unbounded"
+		}
+		return inf.Nu, inf.Phi, fmt.Sprintf("arma11: phi = rho2/rho1 = %.3f lies outside [0, 1), so the ARMA(1,1) estimate is unusable: AR(1) with phi = rho1 = %.3f is used, nu = (1 + rho1)/(1 - rho1)", rho2/rho1, rho1)
 	}
-	phi = rho2 / rho1
-	if phi >= 0 && phi < 1 {
-		return 1 + 2*rho1/(1-phi), phi, ""
-	}
-	if rho1 >= 1 {
-		return math.Inf(1), rho1, "arma11: the residuals' lag-1 autocorrelation is 1: the inflation is unbounded"
-	}
-	return (1 + rho1) / (1 - rho1), rho1, fmt.Sprintf("arma11: phi = rho2/rho1 = %.3f lies outside [0, 1), so the ARMA(1,1) estimate is unusable: AR(1) with phi = rho1 = %.3f is used, nu = (1 + rho1)/(1 - rho1)", phi, rho1)
+	return inf.Nu, inf.Phi, ""
 }
 
 // outputs builds the output series on the target's full axis.

@@ -412,24 +412,102 @@ const (
 	twFlagARMAAR1                     // arma11: phi outside [0, 1), AR(1) fall-back
 )
 
+// Fallback names the fall-back NoiseInflation took; FallbackNone when the
+// formula applied as written.
+type Fallback uint8
+
+// The fall-backs of NoiseInflation.
+const (
+	FallbackNone   Fallback = iota
+	FallbackCapped          // ar1: r1 <= 0, n_e capped at n
+	FallbackWhite           // arma11: rho1 <= 0, white noise (nu = 1)
+	FallbackAR1             // arma11: phi outside [0, 1), AR(1) with phi = rho1
+)
+
+// Inflation is how a residual noise model widens ordinary least-squares
+// uncertainties (the result of NoiseInflation).
+type Inflation struct {
+	NEff     float64  // effective sample size: n (white), n_e (ar1), n/nu (arma11)
+	Nu       float64  // variance inflation factor: nu for arma11, 1 otherwise
+	Phi      float64  // arma11's AR coefficient; NaN otherwise and after FallbackWhite
+	Fallback Fallback // the fall-back taken, if any
+}
+
+// NoiseInflation is the effective sample size and variance inflation of a
+// noise model for regression residuals on n values with lag-1 and lag-2
+// autocorrelations rho1 and rho2 (r1 = rho1). It is the one implementation
+// of the moment formulas used by Window, BrokenStick, the trend grid and
+// the other packages' regressions:
+//
+//   - ar1, Santer et al. 2008 (Int. J. Climatol. 28, 1703):
+//     n_e = n (1 - r1) / (1 + r1), nu = 1; the residual variance is then
+//     s^2 = sum e^2 / (n_e - p) on n_e - p degrees of freedom (p
+//     coefficients). When r1 <= 0 (or NaN) the formula would give n_e > n:
+//     n_e is capped at n (common practice), FallbackCapped.
+//   - arma11, Foster and Rahmstorf 2011 (Environ. Res. Lett. 6, 044022;
+//     the formula as ../shared/CHECKS.md gives it, from memory of the
+//     paper): phi = rho2 / rho1, nu = 1 + 2 rho1 / (1 - phi),
+//     SE = SE_white sqrt(nu), n_eff = n / nu (n/nu - p degrees of
+//     freedom). When rho1 <= 0 (or NaN) there is no positive
+//     autocorrelation to correct for: nu = 1, phi NaN, FallbackWhite. When
+//     phi falls outside [0, 1) the ARMA(1,1) estimate is unusable: AR(1)
+//     with phi = rho1, nu = (1 + rho1) / (1 - rho1), FallbackAR1 (+Inf at
+//     rho1 = 1).
+//   - white, and any other name (arma11-ml takes its uncertainty from the
+//     likelihood fit): n_eff = n, nu = 1, phi NaN.
+//
+// The caller applies the result, decides when n_eff is too small and words
+// the warnings; n only enters NEff.
+func NoiseInflation(noise string, n int, rho1, rho2 float64) Inflation {
+	fn := float64(n)
+	out := Inflation{NEff: fn, Nu: 1, Phi: math.NaN()}
+	switch noise {
+	case NoiseAR1:
+		if !(rho1 > 0) {
+			out.Fallback = FallbackCapped
+		} else {
+			out.NEff = fn * (1 - rho1) / (1 + rho1)
+		}
+	case NoiseARMA11:
+		if !(rho1 > 0) {
+			out.Fallback = FallbackWhite
+			break
+		}
+		phi := rho2 / rho1
+		if phi >= 0 && phi < 1 {
+			out.Nu = 1 + 2*rho1/(1-phi)
+		} else {
+			out.Fallback = FallbackAR1
+			phi = rho1
+			out.Nu = (1 + rho1) / (1 - rho1)
+		}
+		out.Phi = phi
+		out.NEff = fn / out.Nu
+	}
+	return out
+}
+
 // twNoise applies a noise model to a coefficient whose (X'X)^-1 diagonal
 // entry is xtxinv, in a regression with p coefficients on n values with
 // residual sum of squares rss and residual autocorrelations r1, r2. The
-// formulas are Window's, with 2 replaced by p:
+// formulas are Window's (NoiseInflation), with 2 replaced by p:
 // white s^2 = rss/(n-p), dof n-p; ar1 s^2 = rss/(n_e-p), dof n_e-p,
 // refused when n_e <= p+1; arma11 SE = SE_white sqrt(nu), dof n/nu-p,
-// refused when n/nu <= p+1.
+// refused when n/nu <= p+1. An undefined r1 (NaN) is refused under ar1
+// and arma11 (NoiseInflation would read it as no autocorrelation).
 func twNoise(kind string, n, p int, rss, xtxinv, r1, r2 float64) (twNoiseOut, int) {
 	out := twNoiseOut{neff: math.NaN(), nu: math.NaN(), phi: math.NaN()}
 	fn, fp := float64(n), float64(p)
+	inf := NoiseInflation(kind, n, r1, r2)
 	switch kind {
 	case NoiseAR1:
-		ne := fn
-		if r1 <= 0 {
-			out.flags |= twFlagAR1Capped
-		} else {
-			ne = fn * (1 - r1) / (1 + r1)
+		if math.IsNaN(r1) {
+			return out, twARFew
 		}
+		if inf.Fallback == FallbackCapped {
+			out.flags |= twFlagAR1Capped
+		}
+		ne := inf.NEff
 		out.neff = ne
 		if !(ne > fp+1) {
 			return out, twARFew
@@ -437,22 +515,19 @@ func twNoise(kind string, n, p int, rss, xtxinv, r1, r2 float64) (twNoiseOut, in
 		out.se = math.Sqrt(rss / (ne - fp) * xtxinv)
 		out.dof = ne - fp
 	case NoiseARMA11:
-		nu := 1.0
-		if r1 <= 0 {
-			out.flags |= twFlagARMAWhite
-		} else {
-			phi := r2 / r1
-			if phi >= 0 && phi < 1 {
-				nu = 1 + 2*r1/(1-phi)
-			} else {
-				out.flags |= twFlagARMAAR1
-				phi = r1
-				nu = (1 + r1) / (1 - r1)
-			}
-			out.phi = phi
+		if math.IsNaN(r1) {
+			return out, twARMAFew
 		}
+		switch inf.Fallback {
+		case FallbackWhite:
+			out.flags |= twFlagARMAWhite
+		case FallbackAR1:
+			out.flags |= twFlagARMAAR1
+		}
+		nu := inf.Nu
+		out.phi = inf.Phi
 		out.nu = nu
-		out.neff = fn / nu
+		out.neff = inf.NEff
 		if !(out.neff > fp+1) {
 			return out, twARMAFew
 		}

@@ -257,6 +257,37 @@ func TestWindowRefusesTooFewEffectiveValues(t *testing.T) {
 	}
 }
 
+// TestNoiseInflation: the formulas of Santer et al. 2008 (ar1) and Foster
+// and Rahmstorf 2011 (arma11) worked by hand, and each fall-back.
+func TestNoiseInflation(t *testing.T) {
+	check := func(name string, got Inflation, neff, nu, phi float64, fb Fallback) {
+		t.Helper()
+		eq := func(a, b float64) bool {
+			return (math.IsNaN(a) && math.IsNaN(b)) || a == b || math.Abs(a-b) <= 1e-14*math.Abs(b)
+		}
+		if !eq(got.NEff, neff) || !eq(got.Nu, nu) || !eq(got.Phi, phi) || got.Fallback != fb {
+			t.Errorf("%s: got %+v, want n_eff %v nu %v phi %v fall-back %d", name, got, neff, nu, phi, fb)
+		}
+	}
+	nan := math.NaN()
+	check("white", NoiseInflation(NoiseWhite, 30, 0.5, 0.25), 30, 1, nan, FallbackNone)
+	// n_e = 30 (1 - 0.5)/(1 + 0.5) = 10.
+	check("ar1", NoiseInflation(NoiseAR1, 30, 0.5, 0.25), 10, 1, nan, FallbackNone)
+	check("ar1, r1 <= 0", NoiseInflation(NoiseAR1, 30, -0.2, 0.1), 30, 1, nan, FallbackCapped)
+	check("ar1, r1 NaN", NoiseInflation(NoiseAR1, 30, nan, nan), 30, 1, nan, FallbackCapped)
+	// phi = 0.25/0.5 = 0.5, nu = 1 + 2 (0.5)/(1 - 0.5) = 3, n/nu = 10.
+	check("arma11", NoiseInflation(NoiseARMA11, 30, 0.5, 0.25), 10, 3, 0.5, FallbackNone)
+	// phi = 0.75, nu = 1 + 0.8/0.25 = 4.2.
+	check("arma11, phi 0.75", NoiseInflation(NoiseARMA11, 42, 0.4, 0.3), 10, 4.2, 0.75, FallbackNone)
+	check("arma11, rho1 <= 0", NoiseInflation(NoiseARMA11, 30, -0.1, 0.2), 30, 1, nan, FallbackWhite)
+	check("arma11, rho1 NaN", NoiseInflation(NoiseARMA11, 30, nan, nan), 30, 1, nan, FallbackWhite)
+	// phi < 0 and phi >= 1: AR(1) with phi = rho1, nu = 1.3/0.7.
+	check("arma11, phi < 0", NoiseInflation(NoiseARMA11, 13, 0.3, -0.1), 13/(1.3/0.7), 1.3/0.7, 0.3, FallbackAR1)
+	check("arma11, phi > 1", NoiseInflation(NoiseARMA11, 13, 0.3, 0.35), 13/(1.3/0.7), 1.3/0.7, 0.3, FallbackAR1)
+	check("arma11, rho1 = 1", NoiseInflation(NoiseARMA11, 13, 1, -0.5), 0, math.Inf(1), 1, FallbackAR1)
+	check("arma11-ml", NoiseInflation(NoiseARMA11ML, 30, 0.5, 0.25), 30, 1, nan, FallbackNone)
+}
+
 func TestWindowARMA11MLAgainstR(t *testing.T) {
 	ref := twLoadRef(t)
 	for _, name := range twRefNames {
