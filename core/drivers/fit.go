@@ -371,15 +371,7 @@ func scaledCond(cols []column) float64 {
 			Z.Set(i, j, (v-mean)/s)
 		}
 	}
-	var svd mat.SVD
-	if !svd.Factorize(Z, mat.SVDNone) {
-		return math.Inf(1)
-	}
-	sv := svd.Values(nil)
-	if sv[len(sv)-1] <= 0 {
-		return math.Inf(1)
-	}
-	return sv[0] / sv[len(sv)-1]
+	return linreg.Cond2(Z)
 }
 
 // ResidualACF12 returns the lag-1 and lag-2 autocorrelations of residuals

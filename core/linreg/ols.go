@@ -134,14 +134,7 @@ func OLS(X mat.Matrix, y []float64) (*Fit, error) {
 	for i := range fitted {
 		fitted[i] = y[i] - res[i]
 	}
-	var svd mat.SVD
-	cond := math.Inf(1)
-	if svd.Factorize(X, mat.SVDNone) {
-		sv := svd.Values(nil)
-		if sv[len(sv)-1] > 0 {
-			cond = sv[0] / sv[len(sv)-1]
-		}
-	}
+	cond := Cond2(X)
 	return &Fit{
 		N: n, P: p, Coef: coef, StdErr: se, Cov: cov, XtXInv: xtxinv,
 		Residuals: res, Fitted: fitted, RSS: rss, DOF: dof,
