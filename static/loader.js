@@ -18,6 +18,39 @@
 		throw new EvalError("eval is not available on this page");
 	};
 
+	// heatledgerStore keeps the autosaved workspace (the analysis file's
+	// text) in this browser's IndexedDB: get() resolves to the text or
+	// null, put(text) and clear() resolve when done. Nothing leaves the
+	// machine.
+	function openStore() {
+		return new Promise(function (resolve, reject) {
+			if (!window.indexedDB) {
+				reject(new Error("this browser has no IndexedDB"));
+				return;
+			}
+			var req = indexedDB.open("heatledger", 1);
+			req.onupgradeneeded = function () { req.result.createObjectStore("workspace"); };
+			req.onsuccess = function () { resolve(req.result); };
+			req.onerror = function () { reject(req.error); };
+		});
+	}
+	function storeDo(mode, act) {
+		return openStore().then(function (db) {
+			return new Promise(function (resolve, reject) {
+				var tx = db.transaction("workspace", mode);
+				var req = act(tx.objectStore("workspace"));
+				tx.oncomplete = function () { db.close(); resolve(req.result === undefined ? null : req.result); };
+				tx.onerror = function () { db.close(); reject(tx.error); };
+				tx.onabort = function () { db.close(); reject(tx.error); };
+			});
+		});
+	}
+	window.heatledgerStore = {
+		get: function () { return storeDo("readonly", function (s) { return s.get("current"); }); },
+		put: function (text) { return storeDo("readwrite", function (s) { return s.put(text, "current"); }); },
+		clear: function () { return storeDo("readwrite", function (s) { return s.delete("current"); }); }
+	};
+
 	function fail(msg) {
 		var el = document.getElementById("hl-loading");
 		if (!el) {

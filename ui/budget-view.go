@@ -74,6 +74,47 @@ type BudgetView struct {
 	grErr    string
 
 	note string
+
+	// the settings of the heating rate and of the Monte Carlo shown
+	heatSet *analysis.HeatSettings
+	runSet  *analysis.SensitivitySettings
+}
+
+func (c *BudgetView) formState() formState {
+	return formState{
+		strs: map[string]*string{"heat_area": &c.heatArea, "heat_area_m2": &c.heatAreaM2, "heat_frac": &c.heatFrac, "gregory_n": &c.grN, "gregory_t": &c.grT},
+		objs: map[string]any{"heat": &c.heat, "form": &c.form},
+	}
+}
+
+// PageState is the form and the analyses of the heating rate and of the
+// Monte Carlo shown.
+func (c *BudgetView) PageState() (map[string]string, []analysis.Analysis) {
+	c.Refs()
+	st := c.formState().save()
+	var list []analysis.Analysis
+	if c.heatSet != nil {
+		list = append(list, pageAnalysis("budget", "heat", c.heatSet))
+	}
+	st["ran"] = strconv.FormatBool(c.runSet != nil)
+	if c.runSet != nil {
+		list = append(list, pageAnalysis("budget", "sensitivity", c.runSet))
+	}
+	return st, list
+}
+
+// brief adds the heating rate or the sensitivity to the briefing.
+func (c *BudgetView) brief(panel string) {
+	c.WS.Do("adding to the brief", func() {
+		switch {
+		case panel == "heat" && c.heatSet != nil:
+			c.note = c.WS.AddToBrief(c.heatSet, "rate", "table")
+		case panel == "sensitivity" && c.runSet != nil:
+			c.note = c.WS.AddToBrief(c.runSet, "ecs", "table")
+		default:
+			c.note = "Nothing to add yet."
+		}
+	})
 }
 
 // signature lists the loaded series; the form is checked again when it
@@ -94,7 +135,17 @@ func (c *BudgetView) Refs() []SeriesRef {
 	if sig := c.signature(); !c.init || sig != c.sig {
 		first := !c.init
 		c.init, c.sig = true, sig
-		if first || c.lostSeries() {
+		if st := c.WS.ViewState("budget"); first && st != nil {
+			c.WS.Do("restoring the Budget view", func() {
+				c.defaults()
+				c.formState().load(st)
+				c.refreshHeat()
+				c.refreshPreview()
+				if st["ran"] == "true" {
+					c.runErr = "The energy-budget run was saved with these settings: press Run to draw again."
+				}
+			})
+		} else if first || c.lostSeries() {
 			c.WS.Do("setting up the Budget view", c.defaults)
 		} else {
 			c.WS.Do("updating the Budget view", func() {
@@ -144,6 +195,7 @@ func (c *BudgetView) defaults() {
 		c.grN = n[0]
 	}
 	c.result, c.runErr, c.stale, c.gregory, c.grErr = nil, "", false, nil, ""
+	c.runSet = nil
 	c.refreshHeat()
 	c.refreshPreview()
 }
@@ -171,7 +223,7 @@ func (c *BudgetView) heatSettings() (analysis.HeatSettings, error) {
 }
 
 func (c *BudgetView) refreshHeat() {
-	c.heatView, c.heatErr = nil, ""
+	c.heatView, c.heatErr, c.heatSet = nil, "", nil
 	if c.heat.Series == "" {
 		c.heatErr = "No heat-content series chosen: load a file with a heat content in ZJ, J or J m-2, or pick a series and give its unit."
 		return
@@ -183,7 +235,9 @@ func (c *BudgetView) refreshHeat() {
 	if err != nil {
 		c.heatErr = err.Error()
 		c.heatView = nil
+		return
 	}
+	c.heatSet = &s
 }
 
 // setHeat returns a change handler for a heating-rate field.
@@ -572,7 +626,8 @@ func (c *BudgetView) run(ev vugu.DOMEvent) {
 				}
 				return
 			}
-			c.result, c.stale = v, false
+			c.result, c.stale, c.runSet = v, false, &s
+			c.WS.Changed()
 		}()
 	})
 }

@@ -585,6 +585,21 @@ func (c *BudgetView) Build(vgin *vugu.BuildIn) (vgout *vugu.BuildOut) {
 						}
 						vgn = &vugu.VGNode{Type: vugu.VGNodeType(1), Data: "\n\t\t\t\t"}
 						vgparent.AppendChild(vgn)
+						vgn = &vugu.VGNode{Type: vugu.VGNodeType(3), Namespace: "", Data: "button", Attr: []vugu.VGAttribute{{Namespace: "", Key: "type", Val: "button"}, vugu.VGAttribute{Namespace: "", Key: "class", Val: "hl-button hl-brief-add"}, vugu.VGAttribute{Namespace: "", Key: "id", Val: "hl-bu-heat-brief"}}}
+						vgparent.AppendChild(vgn)
+						vgn.DOMEventHandlerSpecList = append(vgn.DOMEventHandlerSpecList, vugu.DOMEventHandlerSpec{
+							EventType: "click",
+							Func:      func(event vugu.DOMEvent) { c.brief("heat") },
+							// TODO: implement capture, etc. mostly need to decide syntax
+						})
+						{
+							vgparent := vgn
+							_ = vgparent
+							vgn = &vugu.VGNode{Type: vugu.VGNodeType(1), Data: "Add to brief"}
+							vgparent.AppendChild(vgn)
+						}
+						vgn = &vugu.VGNode{Type: vugu.VGNodeType(1), Data: "\n\t\t\t\t"}
+						vgparent.AppendChild(vgn)
 						vgn = &vugu.VGNode{Type: vugu.VGNodeType(3), Namespace: "", Data: "button", Attr: []vugu.VGAttribute{{Namespace: "", Key: "type", Val: "button"}, vugu.VGAttribute{Namespace: "", Key: "class", Val: "hl-button hl-quiet"}, vugu.VGAttribute{Namespace: "", Key: "id", Val: "hl-bu-heat-csv"}}}
 						vgparent.AppendChild(vgn)
 						vgn.DOMEventHandlerSpecList = append(vgn.DOMEventHandlerSpecList, vugu.DOMEventHandlerSpec{
@@ -1799,6 +1814,21 @@ func (c *BudgetView) Build(vgin *vugu.BuildIn) (vgout *vugu.BuildOut) {
 							vgparent := vgn
 							_ = vgparent
 							vgn = &vugu.VGNode{Type: vugu.VGNodeType(1), Data: "Copy table"}
+							vgparent.AppendChild(vgn)
+						}
+						vgn = &vugu.VGNode{Type: vugu.VGNodeType(1), Data: "\n\t\t\t\t"}
+						vgparent.AppendChild(vgn)
+						vgn = &vugu.VGNode{Type: vugu.VGNodeType(3), Namespace: "", Data: "button", Attr: []vugu.VGAttribute{{Namespace: "", Key: "type", Val: "button"}, vugu.VGAttribute{Namespace: "", Key: "class", Val: "hl-button hl-brief-add"}, vugu.VGAttribute{Namespace: "", Key: "id", Val: "hl-bu-brief"}}}
+						vgparent.AppendChild(vgn)
+						vgn.DOMEventHandlerSpecList = append(vgn.DOMEventHandlerSpecList, vugu.DOMEventHandlerSpec{
+							EventType: "click",
+							Func:      func(event vugu.DOMEvent) { c.brief("sensitivity") },
+							// TODO: implement capture, etc. mostly need to decide syntax
+						})
+						{
+							vgparent := vgn
+							_ = vgparent
+							vgn = &vugu.VGNode{Type: vugu.VGNodeType(1), Data: "Add to brief"}
 							vgparent.AppendChild(vgn)
 						}
 						vgn = &vugu.VGNode{Type: vugu.VGNodeType(1), Data: "\n\t\t\t\t"}

@@ -53,7 +53,7 @@ func (c *DataView) Build(vgin *vugu.BuildIn) (vgout *vugu.BuildOut) {
 				vgn.SetInnerHTML(vugu.HTML("Choose files…"))
 				vgn = &vugu.VGNode{Type: vugu.VGNodeType(1), Data: "\n\t\t\t"}
 				vgparent.AppendChild(vgn)
-				vgn = &vugu.VGNode{Type: vugu.VGNodeType(3), Namespace: "", Data: "input", Attr: []vugu.VGAttribute{{Namespace: "", Key: "class", Val: "hl-hidden-input"}, vugu.VGAttribute{Namespace: "", Key: "id", Val: "hl-file-input"}, vugu.VGAttribute{Namespace: "", Key: "type", Val: "file"}, vugu.VGAttribute{Namespace: "", Key: "multiple", Val: "multiple"}, vugu.VGAttribute{Namespace: "", Key: "accept", Val: ".csv,.txt,.tsv,.dat,.tab,text/csv,text/plain,text/tab-separated-values"}}}
+				vgn = &vugu.VGNode{Type: vugu.VGNodeType(3), Namespace: "", Data: "input", Attr: []vugu.VGAttribute{{Namespace: "", Key: "class", Val: "hl-hidden-input"}, vugu.VGAttribute{Namespace: "", Key: "id", Val: "hl-file-input"}, vugu.VGAttribute{Namespace: "", Key: "type", Val: "file"}, vugu.VGAttribute{Namespace: "", Key: "multiple", Val: "multiple"}, vugu.VGAttribute{Namespace: "", Key: "accept", Val: ".csv,.txt,.tsv,.dat,.tab,.json,text/csv,text/plain,text/tab-separated-values,application/json"}}}
 				vgparent.AppendChild(vgn)
 				vgn.DOMEventHandlerSpecList = append(vgn.DOMEventHandlerSpecList, vugu.DOMEventHandlerSpec{
 					EventType: "change",
@@ -64,7 +64,7 @@ func (c *DataView) Build(vgin *vugu.BuildIn) (vgout *vugu.BuildOut) {
 				vgparent.AppendChild(vgn)
 				vgn = &vugu.VGNode{Type: vugu.VGNodeType(3), Namespace: "", Data: "p", Attr: []vugu.VGAttribute{{Namespace: "", Key: "class", Val: "hl-small"}}}
 				vgparent.AppendChild(vgn)
-				vgn.SetInnerHTML(vugu.HTML("Comma, semicolon, tab or space separated; monthly or annual; several value columns give several series."))
+				vgn.SetInnerHTML(vugu.HTML("Comma, semicolon, tab or space separated; monthly or annual; several value columns give several series. A saved analysis file (.heatledger.json) opens the whole piece of work."))
 				vgn = &vugu.VGNode{Type: vugu.VGNodeType(1), Data: "\n\t\t"}
 				vgparent.AppendChild(vgn)
 			}

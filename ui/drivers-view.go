@@ -53,12 +53,44 @@ type DriversView struct {
 	aFrom, aTo  string // trend-change window A
 	bFrom, bTo  string // trend-change window B
 
-	view  *analysis.DriversView
-	err   string
-	stale bool // settings changed since the fit shown
-	fitMs int  // how long the last fit took, for the page's data-fit-ms
-	note  string
-	init  bool
+	view   *analysis.DriversView
+	err    string
+	stale  bool // settings changed since the fit shown
+	fitMs  int  // how long the last fit took, for the page's data-fit-ms
+	note   string
+	init   bool
+	fitSet *analysis.AdjustSettings // the settings of the fit shown
+}
+
+func (c *DriversView) form() formState {
+	return formState{
+		strs: map[string]*string{"target": &c.target, "harmonics": &c.harmonics, "trend": &c.trendKind, "breaks": &c.breaks,
+			"trend_series": &c.trendSeries, "from": &c.from, "to": &c.to, "noise": &c.noise, "level": &c.level,
+			"a_from": &c.aFrom, "a_to": &c.aTo, "b_from": &c.bFrom, "b_to": &c.bTo},
+		objs: map[string]any{"picks": &c.picks},
+	}
+}
+
+// PageState is the form and, when a fit is shown, its analysis.
+func (c *DriversView) PageState() (map[string]string, []analysis.Analysis) {
+	c.setup()
+	st := c.form().save()
+	st["fitted"] = strconv.FormatBool(c.fitSet != nil)
+	if c.fitSet == nil {
+		return st, nil
+	}
+	return st, []analysis.Analysis{pageAnalysis("drivers", "adjust", c.fitSet)}
+}
+
+// brief adds the adjusted series and the coefficients to the briefing.
+func (c *DriversView) brief() {
+	c.WS.Do("adding to the brief", func() {
+		if c.fitSet == nil {
+			c.note = "Nothing to add yet: fit first."
+			return
+		}
+		c.note = c.WS.AddToBrief(c.fitSet, "adjusted", "coefficients")
+	})
 }
 
 func (c *DriversView) setup() {
@@ -68,6 +100,16 @@ func (c *DriversView) setup() {
 	c.init = true
 	c.picks = map[string]*driverPick{}
 	c.trendKind, c.noise, c.level = "linear", "ar1", "0.95"
+	if st := c.WS.ViewState("drivers"); st != nil {
+		c.form().load(st)
+		if c.picks == nil {
+			c.picks = map[string]*driverPick{}
+		}
+		if st["fitted"] == "true" {
+			c.WS.Do("fitting the drivers", c.run)
+		}
+		return
+	}
 	c.target = c.defaultTarget()
 	c.targetDefaults()
 	if c.WS.HasDemo() {
@@ -261,7 +303,7 @@ func refName(ref string) string {
 // per fit, never during rendering). The lag search takes some milliseconds,
 // so it runs in the click's handler.
 func (c *DriversView) run() {
-	c.note, c.err, c.stale = "", "", false
+	c.note, c.err, c.stale, c.fitSet = "", "", false, nil
 	s, err := c.settings()
 	if err != nil {
 		c.err = err.Error()
@@ -276,7 +318,7 @@ func (c *DriversView) run() {
 		c.view = nil
 		return
 	}
-	c.view = v
+	c.view, c.fitSet = v, &s
 }
 
 // fit is the Fit button.

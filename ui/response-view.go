@@ -121,6 +121,52 @@ type ResponseView struct {
 	noteAt string // the panel whose export made the note
 	sig    string // the series refs the view was computed on
 	init   bool
+
+	// the settings of the run and of the fit shown (nil: none)
+	runSet, fitSet *analysis.RespondSettings
+}
+
+func (c *ResponseView) form() formState {
+	return formState{
+		strs: map[string]*string{"formula": &c.formula, "volcanic": &c.volcanic, "vol_typed": &c.volTyped, "albedo": &c.albedo,
+			"co2_pi": &c.co2PI, "ch4_pi": &c.ch4PI, "n2o_pi": &c.n2oPI, "model": &c.model, "source": &c.source,
+			"lambda": &c.lambda, "gamma": &c.gamma, "c": &c.capC, "c0": &c.capC0, "efficacy": &c.eff, "ecs": &c.ecs, "tcr": &c.tcr,
+			"tau": &c.tau, "f2x": &c.f2x, "preset": &c.preset, "spinup": &c.spinup, "spinup_from": &c.spinFrom,
+			"record": &c.record, "second": &c.second, "heat": &c.heat, "share": &c.share, "window_from": &c.winFrom,
+			"window_to": &c.winTo, "noise": &c.noise, "level": &c.level, "fit_from": &c.fitFrom, "fit_to": &c.fitTo, "fit_level": &c.fitLevel},
+		bools: map[string]*bool{"fit_heat": &c.fitHeat},
+		objs:  map[string]any{"picks": &c.picks, "free": &c.free, "drivers": &c.drivers},
+	}
+}
+
+// PageState is the form and the analyses of the run and the fit shown.
+func (c *ResponseView) PageState() (map[string]string, []analysis.Analysis) {
+	c.setup()
+	st := c.form().save()
+	var list []analysis.Analysis
+	if c.runSet != nil {
+		list = append(list, pageAnalysis("response", "respond", c.runSet))
+	}
+	st["fitted"] = strconv.FormatBool(c.fitSet != nil)
+	if c.fitSet != nil {
+		list = append(list, pageAnalysis("response", "fit", c.fitSet))
+	}
+	return st, list
+}
+
+// brief adds the run's attribution or the fit to the briefing.
+func (c *ResponseView) brief(panel string) {
+	c.WS.Do("adding to the brief", func() {
+		c.noteAt = panel
+		switch {
+		case panel == "run" && c.runSet != nil:
+			c.note = c.WS.AddToBrief(c.runSet, "run", "attribution")
+		case panel == "fit" && c.fitSet != nil:
+			c.note = c.WS.AddToBrief(c.fitSet, "fit", "estimates")
+		default:
+			c.note = "Nothing to add yet."
+		}
+	})
 }
 
 func (c *ResponseView) setup() {
@@ -152,6 +198,20 @@ func (c *ResponseView) setup() {
 		c.free[f] = true
 	}
 	c.winFrom, c.winTo = d.From, d.To
+	if st := c.WS.ViewState("response"); st != nil {
+		c.form().load(st)
+		for _, m := range []*map[string]bool{&c.free, &c.drivers} {
+			if *m == nil {
+				*m = map[string]bool{}
+			}
+		}
+		if c.picks == nil {
+			c.picks = map[string]*rsPick{}
+		}
+		if st["fitted"] == "true" {
+			c.fitErr = "The fit was saved with these settings: press Fit to run it again."
+		}
+	}
 	c.refresh()
 }
 
@@ -448,7 +508,7 @@ func (c *ResponseView) refresh() {
 	}
 	q, err := c.request()
 	if err != nil {
-		c.err, c.view = err.Error(), nil
+		c.err, c.view, c.runSet = err.Error(), nil, nil
 		return
 	}
 	start := time.Now()
@@ -461,6 +521,9 @@ func (c *ResponseView) refresh() {
 	c.view = v
 	run := q.Respond
 	c.WS.Model = &run
+	shown := q.Respond
+	shown.Record = c.record
+	c.runSet = &shown
 }
 
 // --- handlers ----------------------------------------------------------------------
@@ -604,11 +667,12 @@ func (c *ResponseView) runFit(ev vugu.DOMEvent) {
 		}
 		s, err := c.fitSettings()
 		if err != nil {
-			c.fitErr, c.fit, c.fitStale = err.Error(), nil, false
+			c.fitErr, c.fit, c.fitStale, c.fitSet = err.Error(), nil, false, nil
 			return
 		}
 		env := ev.EventEnv()
 		aw := c.WS.Analysis()
+		kept := s
 		c.fitGen++
 		gen := c.fitGen
 		c.fitRunning, c.fitStage, c.fitDone, c.fitErr = true, "Fitting the model to the record…", 0, ""
@@ -655,10 +719,11 @@ func (c *ResponseView) runFit(ev vugu.DOMEvent) {
 			}
 			c.fitRunning, c.fitMs = false, int(time.Since(start)/time.Millisecond)
 			if err != nil {
-				c.fitErr, c.fit = err.Error(), nil
+				c.fitErr, c.fit, c.fitSet = err.Error(), nil, nil
 				return
 			}
-			c.fit, c.fitStale, c.fitErr = v, false, ""
+			c.fit, c.fitStale, c.fitErr, c.fitSet = v, false, "", &kept
+			c.WS.Changed()
 		}()
 	})
 }

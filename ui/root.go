@@ -26,6 +26,8 @@ func Views() []View {
 			Make: func(ws *Workspace) vugu.Builder { return &ResponseView{WS: ws} }},
 		{ID: "budget", Title: "Budget", Hint: "Heat content to heating rate, energy-budget climate sensitivity with its uncertainty, and how the chosen periods move it",
 			Make: func(ws *Workspace) vugu.Builder { return &BudgetView{WS: ws} }},
+		{ID: "brief", Title: "Brief", Hint: "The figures and tables you picked, with methods, results, caveats and references written out; export, print, save and open the analysis file",
+			Make: func(ws *Workspace) vugu.Builder { return &BriefView{WS: ws} }},
 	}
 }
 
@@ -35,6 +37,7 @@ type Root struct {
 
 	current string
 	inst    map[string]vugu.Builder
+	gen     int // the workspace Generation the views were made for
 }
 
 func (c *Root) views() []View { return Views() }
@@ -57,6 +60,9 @@ func (c *Root) Current() string {
 // that its state lives while the user switches away and back.
 func (c *Root) view() vugu.Builder {
 	id := c.Current()
+	if c.gen != c.WS.Generation {
+		c.inst, c.gen = nil, c.WS.Generation
+	}
 	if b, ok := c.inst[id]; ok {
 		return b
 	}
@@ -67,6 +73,7 @@ func (c *Root) view() vugu.Builder {
 			}
 			b := v.Make(c.WS)
 			c.inst[id] = b
+			c.WS.RegisterView(id, b)
 			return b
 		}
 	}

@@ -82,6 +82,93 @@ type TrendsView struct {
 
 	note string // last action's note (copied, saved)
 	init bool
+
+	// the settings of each panel as last computed (nil: not shown)
+	mainSet *analysis.TrendSettings
+	cmpSet  *analysis.CompareSettings
+	gridSet *analysis.GridSettings
+	brkSet  *analysis.BreaksSettings
+	senSet  *analysis.SenSettings
+}
+
+func (c *TrendsView) form() formState {
+	return formState{
+		strs: map[string]*string{"from": &c.from, "to": &c.to, "noise": &c.noise, "level": &c.level, "per": &c.per,
+			"smooth": &c.smooth, "smooth_n": &c.smoothN, "a_from": &c.aFrom, "a_to": &c.aTo, "b_from": &c.bFrom, "b_to": &c.bTo,
+			"grid_min": &c.gridMin, "grid_step": &c.gridStep, "grid_noise": &c.gridNoise, "grid_mark": &c.gridMark,
+			"brk_max": &c.brkMax, "brk_min": &c.brkMin, "brk_sims": &c.brkSims, "brk_seed": &c.brkSeed, "brk_model": &c.brkModel,
+			"sen_corr": &c.senCorr},
+		bools: map[string]*bool{"anomalies": &c.anomalies},
+		objs:  map[string]any{"picked": &c.picked},
+	}
+}
+
+// PageState is the form and the analyses of the panels shown.
+func (c *TrendsView) PageState() (map[string]string, []analysis.Analysis) {
+	c.setup()
+	st := c.form().save()
+	var list []analysis.Analysis
+	if c.mainSet != nil {
+		list = append(list, pageAnalysis("trends", "trend", c.mainSet))
+	}
+	for name, on := range map[string]bool{"compare": c.cmpSet != nil, "grid": c.gridSet != nil, "breaks": c.brkSet != nil, "sen": c.senSet != nil} {
+		st["shown_"+name] = strconv.FormatBool(on)
+	}
+	if c.cmpSet != nil {
+		list = append(list, pageAnalysis("trends", "compare", c.cmpSet))
+	}
+	if c.gridSet != nil {
+		list = append(list, pageAnalysis("trends", "grid", c.gridSet))
+	}
+	if c.brkSet != nil {
+		list = append(list, pageAnalysis("trends", "breaks", c.brkSet))
+	}
+	if c.senSet != nil {
+		list = append(list, pageAnalysis("trends", "sen", c.senSet))
+	}
+	return st, list
+}
+
+// restore applies a loaded form and recomputes the quick panels that were
+// shown (the change-point search waits for a click: it takes seconds).
+func (c *TrendsView) restore(st map[string]string) {
+	c.form().load(st)
+	if c.picked == nil {
+		c.picked = map[string]bool{}
+	}
+	c.refresh()
+	if st["shown_compare"] == "true" {
+		c.runCompare()
+	}
+	if st["shown_grid"] == "true" {
+		c.runGrid()
+	}
+	if st["shown_sen"] == "true" {
+		c.runSen()
+	}
+	if st["shown_breaks"] == "true" {
+		c.brkErr = "The change-point search was saved with these settings: press Search to run it again."
+	}
+}
+
+// brief adds a panel's figure or table to the briefing.
+func (c *TrendsView) brief(panel string) {
+	c.WS.Do("adding to the brief", func() {
+		switch {
+		case panel == "main" && c.mainSet != nil:
+			c.note = c.WS.AddToBrief(c.mainSet, "figure")
+		case panel == "compare" && c.cmpSet != nil:
+			c.note = c.WS.AddToBrief(c.cmpSet, "figure", "table")
+		case panel == "grid" && c.gridSet != nil:
+			c.note = c.WS.AddToBrief(c.gridSet, "figure")
+		case panel == "breaks" && c.brkSet != nil:
+			c.note = c.WS.AddToBrief(c.brkSet, "figure", "table")
+		case panel == "sen" && c.senSet != nil:
+			c.note = c.WS.AddToBrief(c.senSet, "table")
+		default:
+			c.note = "Nothing to add yet: compute this panel first."
+		}
+	})
 }
 
 func (c *TrendsView) setup() {
@@ -94,6 +181,10 @@ func (c *TrendsView) setup() {
 	c.gridMin, c.gridStep, c.gridNoise, c.gridMark = "10", "year", "ar1", "zero"
 	c.brkMax, c.brkMin, c.brkSims, c.brkSeed, c.brkModel = "3", "10", "500", "1", "slope"
 	c.senCorr = "none"
+	if st := c.WS.ViewState("trends"); st != nil {
+		c.restore(st)
+		return
+	}
 	refs := c.WS.SeriesRefs()
 	if len(refs) > 0 {
 		c.picked[refs[0].Ref] = true
@@ -137,7 +228,7 @@ func parseLevel(s string) float64 {
 
 // refresh recomputes the main trend (fast for every noise model).
 func (c *TrendsView) refresh() {
-	c.main, c.mainErr = nil, ""
+	c.main, c.mainErr, c.mainSet = nil, "", nil
 	refs := c.pickedRefs()
 	if len(refs) == 0 {
 		c.mainErr = "Tick at least one series to fit its trend."
@@ -160,12 +251,13 @@ func (c *TrendsView) refresh() {
 		}
 		sm.Span = f
 	}
-	v, err := c.WS.Analysis().TrendFigure(analysis.TrendSettings{Series: refs, From: c.from, To: c.to, Noise: c.noise, Level: parseLevel(c.level), Anomalies: c.anomalies}, sm, c.per)
+	set := analysis.TrendSettings{Series: refs, From: c.from, To: c.to, Noise: c.noise, Level: parseLevel(c.level), Anomalies: c.anomalies}
+	v, err := c.WS.Analysis().TrendFigure(set, sm, c.per)
 	if err != nil {
 		c.mainErr = err.Error()
 		return
 	}
-	c.main = v
+	c.main, c.mainSet = v, &set
 }
 
 func (c *TrendsView) onPick(ref string) {
@@ -332,14 +424,15 @@ func (c *TrendsView) setCmp(f *string, ev vugu.DOMEvent) {
 
 func (c *TrendsView) runCompare() {
 	c.WS.Do("comparing two windows", func() {
-		c.cmp, c.cmpErr = nil, ""
-		v, err := c.WS.Analysis().CompareFigure(analysis.CompareSettings{Series: c.first(),
-			WindowA: [2]string{c.aFrom, c.aTo}, WindowB: [2]string{c.bFrom, c.bTo}, Noise: c.noise, Level: parseLevel(c.level)})
+		c.cmp, c.cmpErr, c.cmpSet = nil, "", nil
+		set := analysis.CompareSettings{Series: c.first(),
+			WindowA: [2]string{c.aFrom, c.aTo}, WindowB: [2]string{c.bFrom, c.bTo}, Noise: c.noise, Level: parseLevel(c.level)}
+		v, err := c.WS.Analysis().CompareFigure(set)
 		if err != nil {
 			c.cmpErr = err.Error()
 			return
 		}
-		c.cmp = v
+		c.cmp, c.cmpSet = v, &set
 	})
 }
 
@@ -378,18 +471,19 @@ func (c *TrendsView) setPlain(f *string, ev vugu.DOMEvent) {
 
 func (c *TrendsView) runGrid() {
 	c.WS.Do("computing the trend grid", func() {
-		c.grid, c.gridErr = nil, ""
+		c.grid, c.gridErr, c.gridSet = nil, "", nil
 		min, err := strconv.ParseFloat(c.gridMin, 64)
 		if err != nil || !(min > 0) {
 			c.gridErr = fmt.Sprintf("Shortest window: %q is not a positive number of years.", c.gridMin)
 			return
 		}
-		v, err := c.WS.Analysis().GridFigure(analysis.GridSettings{Series: c.first(), MinYears: min, Step: c.gridStep, Noise: c.gridNoise, Level: parseLevel(c.level)}, c.gridMark)
+		set := analysis.GridSettings{Series: c.first(), MinYears: min, Step: c.gridStep, Noise: c.gridNoise, Level: parseLevel(c.level)}
+		v, err := c.WS.Analysis().GridFigure(set, c.gridMark)
 		if err != nil {
 			c.gridErr = err.Error()
 			return
 		}
-		c.grid = v
+		c.grid, c.gridSet = v, &set
 	})
 }
 
@@ -466,7 +560,7 @@ func (c *TrendsView) runBreaks(ev vugu.DOMEvent) {
 		if c.brkRunning {
 			return
 		}
-		c.brk, c.brkErr = nil, ""
+		c.brk, c.brkErr, c.brkSet = nil, "", nil
 		k, err1 := strconv.Atoi(c.brkMax)
 		min, err2 := strconv.ParseFloat(c.brkMin, 64)
 		sims, err3 := strconv.Atoi(c.brkSims)
@@ -514,7 +608,8 @@ func (c *TrendsView) runBreaks(ev vugu.DOMEvent) {
 				}
 				return
 			}
-			c.brk = v
+			c.brk, c.brkSet = v, &settings
+			c.WS.Changed()
 		}()
 	})
 }
@@ -575,14 +670,15 @@ func (c *TrendsView) onSenCorr(ev vugu.DOMEvent) { c.setPlain(&c.senCorr, ev) }
 
 func (c *TrendsView) runSen() {
 	c.WS.Do("computing the Sen slope", func() {
-		c.sen, c.senErr = nil, ""
-		r, err := c.WS.Analysis().Sen(analysis.SenSettings{Series: c.first(), From: c.from, To: c.to, Correction: c.senCorr, Level: parseLevel(c.level)})
+		c.sen, c.senErr, c.senSet = nil, "", nil
+		set := analysis.SenSettings{Series: c.first(), From: c.from, To: c.to, Correction: c.senCorr, Level: parseLevel(c.level)}
+		r, err := c.WS.Analysis().Sen(set)
 		if err != nil {
 			c.senErr = err.Error()
 			return
 		}
 		t := analysis.SenTable(r)
-		c.sen = &t
+		c.sen, c.senSet = &t, &set
 	})
 }
 

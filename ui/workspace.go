@@ -133,6 +133,16 @@ type Workspace struct {
 	// the Budget view can take dN from it (nil: the Response defaults).
 	Model *analysis.RespondSettings
 
+	// Brief is the briefing being built (the Brief view).
+	Brief BriefState
+	// Version counts changes (autosave saves when it moves); Generation
+	// counts loads of a whole analysis file (the views are made afresh).
+	Version, Generation int
+
+	views          map[string]Stateful
+	loadedPage     map[string]map[string]string
+	loadedAnalyses []analysis.Analysis
+
 	// BeforeEvent, when set, runs inside Do before the action; tests use it
 	// to prove that a panic in any handler is caught.
 	BeforeEvent func()
@@ -164,6 +174,7 @@ func (w *Workspace) Do(what string, f func()) {
 		w.BeforeEvent()
 	}
 	f()
+	w.Changed()
 }
 
 // Fail records a recovered panic in the banner and prints its stack to the
@@ -208,7 +219,7 @@ func (w *Workspace) ReadFiles(env vugu.EventEnv, list js.Value) {
 				w.AddError(name, err)
 				return
 			}
-			w.Add(name, data)
+			w.AddOrOpen(name, data)
 		})
 	})
 	inCall = false

@@ -192,8 +192,8 @@ func runEmbed(req js.Value) {
 }
 
 // embedFigure finds the analysis id and draws its figure: the chart's
-// title (its text alternative) and SVG. view picks one of the kind's
-// charts where it has several; "" is the first.
+// title (its text alternative) and SVG. view names one of the analysis'
+// figures (analysis.Workspace.Show lists them); "" is the first.
 func embedFigure(f *analysis.AnalysisFile, id, view string) (title, svg string, err error) {
 	if id == "" {
 		return "", "", errors.New("no figure given: add figure=ID (the id of one of the file's analyses) to the address")
@@ -213,86 +213,21 @@ func embedFigure(f *analysis.AnalysisFile, id, view string) (title, svg string, 
 	if err != nil {
 		return "", "", err
 	}
-	// views maps view names to SVG text, in order; the first is the default
-	type panel struct{ name, svg string }
-	var panels []panel
-	switch s := a.Settings.(type) {
-	case *analysis.TrendSettings:
-		v, err := w.TrendFigure(*s, analysis.SmoothSettings{}, "")
-		if err != nil {
-			return "", "", err
-		}
-		panels = []panel{{"trend", v.SVG}}
-	case *analysis.CompareSettings:
-		v, err := w.CompareFigure(*s)
-		if err != nil {
-			return "", "", err
-		}
-		panels = []panel{{"compare", v.SVG}}
-	case *analysis.GridSettings:
-		mark := "zero"
-		if view == "full" {
-			mark = "full"
-		}
-		v, err := w.GridFigure(*s, mark)
-		if err != nil {
-			return "", "", err
-		}
-		panels = []panel{{mark, v.SVG}}
-		if view == "full" || view == "zero" {
-			view = ""
-		}
-	case *analysis.BreaksSettings:
-		v, err := w.BreaksFigure(*s, nil, nil)
-		if err != nil {
-			return "", "", err
-		}
-		panels = []panel{{"breaks", v.SVG}}
-	case *analysis.AdjustSettings:
-		v, err := w.DriversFigure(*s)
-		if err != nil {
-			return "", "", err
-		}
-		panels = []panel{{"fit", v.FitSVG}, {"adjusted", v.AdjustedSVG}, {"change", v.ChangeSVG}}
-	case *analysis.RespondSettings:
-		v, err := w.ResponseFitFigure(*s)
-		if err != nil {
-			return "", "", err
-		}
-		panels = []panel{{"fit", v.FitSVG}, {"heat", v.HeatSVG}}
-	case *analysis.HeatSettings:
-		v, err := w.HeatFigure(*s)
-		if err != nil {
-			return "", "", err
-		}
-		panels = []panel{{"content", v.ContentSVG}, {"rate", v.RateSVG}}
-	case *analysis.SensitivitySettings:
-		v, err := w.SensitivityFigure(*s, nil, nil)
-		if err != nil {
-			return "", "", err
-		}
-		panels = []panel{{"ecs", v.ECSSVG}, {"tcr", v.TCRSVG}}
-	default:
-		return "", "", fmt.Errorf("analysis %q is of kind %s, which has no figure to embed: its numbers are in the report of heatledger.run", id, a.Kind)
+	sh, err := w.Show(*a, nil, nil)
+	if err != nil {
+		return "", "", err
 	}
-	var names []string
-	for _, p := range panels {
-		names = append(names, p.name)
-		if (view == "" || view == p.name) && p.svg != "" {
-			return svgTitle(p.svg), p.svg, nil
+	var figs []string
+	for _, p := range sh.Parts {
+		if p.IsFigure() {
+			figs = append(figs, p.Name)
+			if view == "" || view == p.Name {
+				return p.Title, p.SVG, nil
+			}
 		}
 	}
-	if view == "" {
-		return "", "", fmt.Errorf("analysis %q drew no figure", id)
+	if len(figs) == 0 {
+		return "", "", fmt.Errorf("analysis %q is of kind %s, which draws no figure here: its numbers are in the report of heatledger.run", id, a.Kind)
 	}
-	return "", "", fmt.Errorf("analysis %q (%s) has no view %q (or it is empty): expected one of %q", id, a.Kind, view, names)
-}
-
-// svgTitle returns the text of an SVG's first <title> element, unescaped.
-func svgTitle(svg string) string {
-	d := js.Global().Get("DOMParser").New().Call("parseFromString", svg, "image/svg+xml")
-	if t := d.Call("querySelector", "title"); !t.IsNull() {
-		return t.Get("textContent").String()
-	}
-	return "Heatledger figure"
+	return "", "", fmt.Errorf("analysis %q (%s) has no view %q (or it is empty): expected one of %q", id, a.Kind, view, figs)
 }

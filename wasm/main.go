@@ -54,10 +54,13 @@ func main() {
 	}
 
 	ws := ui.NewWorkspace(browserHost{})
-	ws.Do("loading the demo world", ws.LoadDemo)
+	if !restoreSaved(ws) {
+		ws.Do("loading the demo world", ws.LoadDemo)
+	}
 	mark("hl-demo-read")
 	root := &ui.Root{WS: ws}
 	listenForDrops(doc, env, ws)
+	go autosave(env, ws)
 
 	marked := false
 	for {

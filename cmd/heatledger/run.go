@@ -10,6 +10,7 @@ import (
 	"text/tabwriter"
 
 	"heatledger/core/analysis"
+	"heatledger/core/brief"
 	"heatledger/core/budget"
 	"heatledger/core/trend"
 )
@@ -46,7 +47,7 @@ func readAnalysisFile(name string) (*analysis.AnalysisFile, error) {
 
 func runRun(args []string, stdout, stderr io.Writer) error {
 	fs := newFlagSet("run", stderr)
-	out := fs.String("out", "", "also write report.json and one ID.json per analysis into this directory (created if needed)")
+	out := fs.String("out", "", "also write report.json and one ID.json per analysis into this directory (created if needed), and the briefing (brief.md with its SVG figures, brief.html) when the file has one")
 	asJSON := fs.Bool("json", false, "print the report as JSON instead of a summary")
 	fs.Usage = func() {
 		fmt.Fprintln(stderr, "usage: heatledger run [--json] [--out DIR] FILE"+analysis.AnalysisExt)
@@ -74,6 +75,9 @@ func runRun(args []string, stdout, stderr io.Writer) error {
 	}
 	if *out != "" {
 		if err := writeReportDir(*out, rep, text); err != nil {
+			return err
+		}
+		if err := writeBrief(*out, f); err != nil {
 			return err
 		}
 	}
@@ -115,6 +119,31 @@ func writeReportDir(dir string, rep *analysis.Report, text []byte) error {
 			one.Result = nil
 		}
 		if err := writeFileWith(filepath.Join(dir, r.ID+".json"), func(w io.Writer) error { return writeJSON(w, one) }); err != nil {
+			return err
+		}
+	}
+	return nil
+}
+
+// writeBrief writes the file's briefing into dir: brief.md with its SVG
+// figures beside it, and brief.html (self-contained). The page exports the
+// same bytes from the same file. A file without a briefing writes nothing.
+func writeBrief(dir string, f *analysis.AnalysisFile) error {
+	if f.Brief == nil || len(f.Brief.Items) == 0 {
+		return nil
+	}
+	w, err := f.Workspace()
+	if err != nil {
+		return err
+	}
+	b := brief.Build(f, w, brief.Options{})
+	md, figs := b.Markdown()
+	files := map[string]string{"brief.md": md, "brief.html": b.HTML()}
+	for name, svg := range figs {
+		files[name] = svg
+	}
+	for name, text := range files {
+		if err := os.WriteFile(filepath.Join(dir, name), []byte(text), 0o644); err != nil {
 			return err
 		}
 	}

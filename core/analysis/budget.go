@@ -86,6 +86,12 @@ type BudgetQuantity struct {
 	// Data is a series handed in directly instead of by name (for example
 	// N from an energy balance model run). Not saved in the analysis file.
 	Data *series.Series `json:"-"`
+	// Forcing is the total of a forcing assembly (the page's "forcing"
+	// source); Model the top-of-atmosphere imbalance N of an energy
+	// balance model run (the "model" source). Either takes the place of
+	// Series, so the analysis file can run them again.
+	Forcing *ForcingSettings `json:"forcing,omitempty"`
+	Model   *RespondSettings `json:"model,omitempty"`
 	// Heat marks the series as a heat content whose heating rate is used.
 	Heat *HeatInput `json:"heat,omitempty"`
 	// Base is a typed base-period value used instead of the series' own.
@@ -145,6 +151,20 @@ func (w *Workspace) quantity(role string, q BudgetQuantity) (budget.Quantity, er
 	switch {
 	case q.Data != nil:
 		out.Series = q.Data
+	case q.Forcing != nil:
+		r, err := w.Forcing(*q.Forcing)
+		if err != nil {
+			return out, fmt.Errorf("%s: building the forcing from %s: %w", role, ForcingSummary(*q.Forcing), err)
+		}
+		tot := r.Total.Clone()
+		tot.Name = "total forcing"
+		out.Series = tot
+	case q.Model != nil:
+		n, err := w.ModelImbalance(q.Model)
+		if err != nil {
+			return out, fmt.Errorf("%s: the energy balance model: %w", role, err)
+		}
+		out.Series = n
 	case strings.TrimSpace(q.Series) != "":
 		s, err := w.Find(q.Series)
 		if err != nil {

@@ -524,13 +524,10 @@ func (w *Workspace) budgetQuantity(role string, q QuantityForm, heatNoise string
 		if !ok {
 			return out, fmt.Errorf("%s: no forcing components among the loaded series (CO2 in ppm, CH4 and N2O in ppb, aod, tsi, or a forcing in W m-2): choose a series or type a distribution", lab)
 		}
-		r, err := w.Forcing(fs)
-		if err != nil {
+		if _, err := w.Forcing(fs); err != nil {
 			return out, fmt.Errorf("%s: building the forcing from %s: %w", lab, ForcingSummary(fs), err)
 		}
-		tot := r.Total.Clone()
-		tot.Name = "total forcing"
-		out.Data = tot
+		out.Forcing = &fs
 		if out.Name == "" {
 			out.Name = "total forcing"
 		}
@@ -543,7 +540,14 @@ func (w *Workspace) budgetQuantity(role string, q QuantityForm, heatNoise string
 		if err != nil {
 			return out, fmt.Errorf("%s: the energy balance model: %w", lab, err)
 		}
-		out.Data = n
+		var m RespondSettings
+		if q.Model != nil {
+			m = *q.Model
+		} else {
+			m = RespondSettings{Forcing: ForcingSettings{Components: w.ResponseDefaults().Components}}
+		}
+		m.Step, m.Fit, m.Windows = nil, nil, nil
+		out.Model = &m
 		if out.Name == "" {
 			out.Name = n.Name
 		}

@@ -85,6 +85,27 @@ type AnalysisFile struct {
 	Roles map[string]string `json:"roles,omitempty"`
 	// Analyses run in this order; their IDs are unique.
 	Analyses []Analysis `json:"analyses"`
+	// Brief is the briefing: the figures and tables of analyses it shows,
+	// in order (core/brief writes its text).
+	Brief *BriefSpec `json:"brief,omitempty"`
+	// Page holds the page's form fields, view by view (view -> field ->
+	// text), so that the page opens as it was saved. Every number comes
+	// from Analyses; the command-line tool ignores Page.
+	Page map[string]map[string]string `json:"page,omitempty"`
+}
+
+// BriefSpec is the briefing of an analysis file.
+type BriefSpec struct {
+	Title string      `json:"title,omitempty"`
+	Items []BriefItem `json:"items"`
+}
+
+// BriefItem is one figure or table of the briefing: an analysis' ID and
+// the name of one of its parts (see Workspace.Show; "" is its first
+// figure).
+type BriefItem struct {
+	Analysis string `json:"analysis"`
+	Part     string `json:"part,omitempty"`
 }
 
 // DataFile is one embedded data file.
@@ -482,6 +503,14 @@ func (f *AnalysisFile) check(pos map[string]int, at func(int, string, string, ..
 			return at(where(p+".id"), p+".id", "analysis ID %q is given twice (analyses[%d] and %s)", a.ID, j, p)
 		}
 		ids[a.ID] = i
+	}
+	if f.Brief != nil {
+		for i, it := range f.Brief.Items {
+			p := fmt.Sprintf("brief.items[%d].analysis", i)
+			if _, ok := ids[it.Analysis]; !ok {
+				return at(where(p), p, "brief item %d names analysis %q, which the file does not hold", i+1, it.Analysis)
+			}
+		}
 	}
 	keys := make([]string, 0, len(f.Roles))
 	for k := range f.Roles {

@@ -68,6 +68,12 @@ func demoFile(t *testing.T) *AnalysisFile {
 		}
 		f.Analyses = append(f.Analyses, a)
 	}
+	f.Brief = &BriefSpec{Title: "Tessary: how fast it warms, and why", Items: []BriefItem{
+		{Analysis: "trend-demo"}, {Analysis: "compare-demo", Part: "table"}, {Analysis: "grid-demo"},
+		{Analysis: "breaks-demo"}, {Analysis: "sen-demo", Part: "table"}, {Analysis: "adjust-demo", Part: "adjusted"},
+		{Analysis: "forcing-demo"}, {Analysis: "respond-demo", Part: "attribution"}, {Analysis: "heat-demo", Part: "rate"},
+		{Analysis: "sensitivity-demo", Part: "ecs"}, {Analysis: "sensitivity-demo", Part: "table"},
+	}}
 	return f
 }
 

@@ -1,0 +1,190 @@
+// Package brief writes a briefing from an analysis file: a methods
+// paragraph per analysis (data, periods, each method with its published
+// reference and settings), a results paragraph with the numbers and their
+// intervals, the caveats that apply, the references, and the figures and
+// tables the user picked. Export as one self-contained HTML file (inline
+// SVG, print stylesheet) or as Markdown with the SVG files beside it.
+//
+// The page and `heatledger run --out DIR` build the briefing with this
+// same code from the same analysis file, so their texts agree to the last
+// printed digit.
+package brief
+
+import (
+	"context"
+	"fmt"
+	"sort"
+	"strings"
+
+	"heatledger/core/analysis"
+)
+
+// Item is one figure or table of the briefing.
+type Item struct {
+	Analysis string `json:"analysis"`
+	Part     string `json:"part"`
+	Title    string `json:"title"`
+	// SVG is the figure ("" for a table); Table is the table, or the
+	// figure's numbers (its text alternative).
+	SVG   string          `json:"-"`
+	Table *analysis.Table `json:"table,omitempty"`
+	// Err says why the item could not be drawn (its analysis failed or
+	// has no such part).
+	Err string `json:"error,omitempty"`
+}
+
+// Brief is a briefing's content, ready to export.
+type Brief struct {
+	Title string `json:"title"`
+	// Data lists the files with the series used.
+	Data []string `json:"data"`
+	// Methods and Results hold one paragraph per analysis, in the order
+	// the items first name them.
+	Methods    []string `json:"methods"`
+	Results    []string `json:"results"`
+	Caveats    []string `json:"caveats"`
+	References []string `json:"references"`
+	Items      []Item   `json:"items"`
+}
+
+// Options are the optional hooks of Build.
+type Options struct {
+	Context  context.Context
+	Progress func(id string, done, total int)
+	// Shown holds analyses already run (by ID); Build runs the others and
+	// adds them.
+	Shown map[string]*analysis.Shown
+}
+
+// DefaultTitle is the title of a briefing that has none.
+const DefaultTitle = "Temperature change: methods and results"
+
+// Build runs each analysis the brief names once and writes the briefing.
+// An analysis that fails is reported in its items and in the results
+// paragraph; the rest still build. w is the file's workspace (read with
+// f.Workspace()).
+func Build(f *analysis.AnalysisFile, w *analysis.Workspace, opt Options) *Brief {
+	b := &Brief{Title: DefaultTitle, Data: []string{}, Methods: []string{}, Results: []string{}, Caveats: []string{}, References: []string{}, Items: []Item{}}
+	if f.Brief == nil {
+		return b
+	}
+	if t := strings.TrimSpace(f.Brief.Title); t != "" {
+		b.Title = t
+	}
+	byID := map[string]analysis.Analysis{}
+	for _, a := range f.Analyses {
+		byID[a.ID] = a
+	}
+	shown := opt.Shown
+	if shown == nil {
+		shown = map[string]*analysis.Shown{}
+	}
+	errs := map[string]string{}
+	var order []string
+	tx := &texts{w: w, refs: map[string]bool{}, caveats: map[string]bool{}, files: map[string]map[string]bool{}}
+	for _, it := range f.Brief.Items {
+		item := Item{Analysis: it.Analysis, Part: it.Part}
+		a, ok := byID[it.Analysis]
+		if !ok {
+			item.Err = fmt.Sprintf("the analysis file has no analysis %q", it.Analysis)
+			b.Items = append(b.Items, item)
+			continue
+		}
+		sh, done := shown[a.ID]
+		if !done && errs[a.ID] == "" {
+			var progress func(int, int)
+			if opt.Progress != nil {
+				id := a.ID
+				progress = func(d, t int) { opt.Progress(id, d, t) }
+			}
+			var err error
+			sh, err = w.Show(a, opt.Context, progress)
+			if err != nil {
+				errs[a.ID] = err.Error()
+			} else {
+				shown[a.ID] = sh
+			}
+			order = append(order, a.ID)
+		} else if done && !contains(order, a.ID) {
+			order = append(order, a.ID)
+		}
+		if e := errs[a.ID]; e != "" {
+			item.Err = e
+			b.Items = append(b.Items, item)
+			continue
+		}
+		p, err := sh.Part(it.Part)
+		if err != nil {
+			item.Err = err.Error()
+		} else {
+			item.Part, item.Title, item.SVG, item.Table = p.Name, p.Title, p.SVG, p.Table
+		}
+		b.Items = append(b.Items, item)
+	}
+	for _, id := range order {
+		a := byID[id]
+		tx.uses(a)
+		if e := errs[id]; e != "" {
+			b.Methods = append(b.Methods, tx.methods(a, nil))
+			b.Results = append(b.Results, fmt.Sprintf("%s: the analysis could not be run: %s", label(a), e))
+			continue
+		}
+		sh := shown[id]
+		b.Methods = append(b.Methods, tx.methods(a, sh.View))
+		b.Results = append(b.Results, tx.results(a, sh.View))
+	}
+	b.Data = tx.dataLines(f)
+	b.Caveats = tx.caveatList()
+	b.References = tx.refList()
+	return b
+}
+
+func contains(list []string, s string) bool {
+	for _, x := range list {
+		if x == s {
+			return true
+		}
+	}
+	return false
+}
+
+// label names an analysis in the text: its kind's name and its ID.
+func label(a analysis.Analysis) string {
+	return kindTitle(a.Kind) + " (" + a.ID + ")"
+}
+
+func kindTitle(k string) string {
+	switch k {
+	case analysis.KindTrend:
+		return "Trend"
+	case analysis.KindCompare:
+		return "Two-window comparison"
+	case analysis.KindGrid:
+		return "Trend grid"
+	case analysis.KindBreaks:
+		return "Change points"
+	case analysis.KindSen:
+		return "Nonparametric trend"
+	case analysis.KindAdjust:
+		return "Short-term factors removed"
+	case analysis.KindForcing:
+		return "Forcing"
+	case analysis.KindRespond:
+		return "Energy balance model"
+	case analysis.KindHeat:
+		return "Heating rate"
+	case analysis.KindSensitivity:
+		return "Energy-budget sensitivity"
+	}
+	return k
+}
+
+// sortedKeys returns a map's keys in order.
+func sortedKeys[V any](m map[string]V) []string {
+	out := make([]string, 0, len(m))
+	for k := range m {
+		out = append(out, k)
+	}
+	sort.Strings(out)
+	return out
+}

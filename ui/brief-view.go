@@ -1,0 +1,223 @@
+package ui
+
+import (
+	"encoding/json"
+	"strconv"
+	"strings"
+
+	"github.com/vugu/vugu"
+
+	"heatledger/core/analysis"
+	"heatledger/core/brief"
+)
+
+// BriefView is the Brief view: the figures and tables picked in the other
+// views, the methods and results text core/brief writes for them, the
+// caveats and references; exports (HTML, Markdown with SVG files, print);
+// saving and opening the analysis file; starting afresh.
+type BriefView struct {
+	WS *Workspace
+
+	sig     string
+	b       *brief.Brief
+	err     string
+	note    string
+	confirm bool // "start fresh" asked once, waiting for the second click
+}
+
+// Printer is a Host that can open the browser's print dialog.
+type Printer interface{ Print() }
+
+// SavedClearer is a Host that keeps an autosaved workspace and can forget it.
+type SavedClearer interface{ ClearSaved() }
+
+// BriefFile is the part of the workspace's analysis file the briefing
+// reads: the data files, the briefing's analyses and its items.
+func (w *Workspace) BriefFile() (*analysis.AnalysisFile, error) {
+	f := analysis.NewAnalysisFile()
+	for _, fl := range w.Files {
+		if fl.Data == nil {
+			continue
+		}
+		r, err := fl.Reading.Reading()
+		if err != nil {
+			return nil, err
+		}
+		f.Files = append(f.Files, analysis.DataFile{Name: fl.Name, Text: string(fl.Data), Reading: r})
+	}
+	f.Analyses = append(f.Analyses, w.Brief.Analyses...)
+	f.Brief = &analysis.BriefSpec{Title: w.Brief.Title, Items: append([]analysis.BriefItem{}, w.Brief.Items...)}
+	return f, nil
+}
+
+// current builds the briefing when its items, analyses, title or data
+// changed since the last build.
+func (c *BriefView) current() *brief.Brief {
+	f, err := c.WS.BriefFile()
+	if err != nil {
+		c.err, c.b = err.Error(), nil
+		return nil
+	}
+	var names strings.Builder
+	for _, d := range f.Files {
+		names.WriteString(d.Name + "\x00" + d.Text[:min(len(d.Text), 64)] + "\x00")
+	}
+	raw, _ := json.Marshal(struct {
+		A []analysis.Analysis
+		B *analysis.BriefSpec
+		F string
+		N int
+	}{f.Analyses, f.Brief, names.String(), len(f.Files)})
+	if sig := string(raw); sig != c.sig || c.b == nil {
+		c.sig, c.err = sig, ""
+		w, werr := f.Workspace()
+		if werr != nil {
+			c.err = werr.Error()
+		}
+		c.b = brief.Build(f, w, brief.Options{})
+	}
+	return c.b
+}
+
+func (c *BriefView) items() []brief.Item {
+	if b := c.current(); b != nil {
+		return b.Items
+	}
+	return nil
+}
+
+func (c *BriefView) hasItems() bool { return len(c.WS.Brief.Items) > 0 }
+
+func (c *BriefView) title() string {
+	if c.WS.Brief.Title != "" {
+		return c.WS.Brief.Title
+	}
+	return brief.DefaultTitle
+}
+
+func (c *BriefView) onTitle(ev vugu.DOMEvent) {
+	c.WS.Do("changing the title", func() { c.WS.Brief.Title = strings.TrimSpace(ev.PropString("target", "value")) })
+}
+
+func (c *BriefView) move(i, d int) {
+	c.WS.Do("moving an item", func() { c.WS.MoveBriefItem(i, d) })
+}
+
+func (c *BriefView) remove(i int) {
+	c.WS.Do("removing an item", func() { c.WS.RemoveBriefItem(i) })
+}
+
+// article is the briefing as HTML made by core/brief, which escapes every
+// text (labels and file content never become markup).
+func (c *BriefView) article() vugu.HTML {
+	if b := c.current(); b != nil {
+		return vugu.HTML(b.Fragment())
+	}
+	return ""
+}
+
+func (c *BriefView) itemCaption(i int, it brief.Item) string {
+	what := "Table"
+	if it.SVG != "" {
+		what = "Figure"
+	}
+	if it.Err != "" {
+		return strconv.Itoa(i+1) + ". " + it.Analysis + " (" + it.Part + "): cannot be shown"
+	}
+	return what + " " + strconv.Itoa(i+1) + ". " + it.Title
+}
+
+
+
+func (c *BriefView) stem() string {
+	return fileStem(c.title())
+}
+
+// download exports the briefing as HTML or as Markdown with its figures
+// (a zip holding brief.md and one SVG file per figure).
+func (c *BriefView) download(what string) {
+	c.WS.Do("exporting the brief", func() {
+		b := c.current()
+		if b == nil || len(b.Items) == 0 {
+			c.note = "Nothing to export yet: add figures or tables from the other views."
+			return
+		}
+		switch what {
+		case "html":
+			name := c.stem() + ".html"
+			c.WS.Save(name, "text/html", []byte(b.HTML()))
+			c.note = "Saved " + name + ": one self-contained page."
+		case "md":
+			md, figs := b.Markdown()
+			files := []brief.ZipFile{{Name: "brief.md", Data: []byte(md)}}
+			for i, it := range b.Items {
+				if n := brief.FigureName(i, it); figs[n] != "" {
+					files = append(files, brief.ZipFile{Name: n, Data: []byte(figs[n])})
+				}
+			}
+			name := c.stem() + "-markdown.zip"
+			c.WS.Save(name, "application/zip", brief.Zip(files))
+			c.note = "Saved " + name + ": brief.md with " + plural(len(files)-1, "SVG figure", "SVG figures") + " beside it."
+		}
+	})
+}
+
+func (c *BriefView) print() {
+	c.WS.Do("printing", func() {
+		p, ok := c.WS.Host.(Printer)
+		if !ok {
+			c.note = "This page cannot print here: use the browser's Print command."
+			return
+		}
+		p.Print()
+	})
+}
+
+// save offers the analysis file: the data, every view's settings, the
+// briefing.
+func (c *BriefView) save() {
+	c.WS.Do("saving the analysis file", func() {
+		data, err := c.WS.SaveBytes()
+		if err != nil {
+			c.note = "The analysis file could not be written: " + err.Error()
+			return
+		}
+		name := c.stem() + analysis.AnalysisExt
+		c.WS.Save(name, "application/json", data)
+		c.note = "Saved " + name + " (" + sizeText(len(data)) + "): open it here again, or run it with heatledger run."
+	})
+}
+
+// onOpen reads an analysis file picked with the file input.
+func (c *BriefView) onOpen(ev vugu.DOMEvent) {
+	c.WS.Do("opening an analysis file", func() {
+		input := ev.JSEventTarget()
+		c.WS.ReadFiles(ev.EventEnv(), input.Get("files"))
+		input.Set("value", "")
+		c.note = ""
+	})
+}
+
+// fresh empties the workspace (and the autosaved copy) and loads the demo,
+// after a second click.
+func (c *BriefView) fresh() {
+	c.WS.Do("starting afresh", func() {
+		if !c.confirm {
+			c.confirm = true
+			return
+		}
+		c.confirm = false
+		if h, ok := c.WS.Host.(SavedClearer); ok {
+			h.ClearSaved()
+		}
+		c.WS.StartFresh()
+		c.note = "Started afresh: the demo world is loaded and the brief is empty."
+	})
+}
+
+func (c *BriefView) keep() { c.WS.Do("keeping the work", func() { c.confirm = false }) }
+
+// itemLabel is an item button's accessible name (format holds one %d).
+func (c *BriefView) itemLabel(i int, format string) string {
+	return strings.Replace(format, "%d", strconv.Itoa(i+1), 1)
+}
