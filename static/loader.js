@@ -48,7 +48,9 @@
 	window.heatledgerStore = {
 		get: function () { return storeDo("readonly", function (s) { return s.get("current"); }); },
 		put: function (text) { return storeDo("readwrite", function (s) { return s.put(text, "current"); }); },
-		clear: function () { return storeDo("readwrite", function (s) { return s.delete("current"); }); }
+		clear: function () { return storeDo("readwrite", function (s) { return s.delete("current"); }); },
+		// aside keeps a copy that could not be read, away from autosave
+		aside: function (text) { return storeDo("readwrite", function (s) { return s.put(text, "set-aside"); }); }
 	};
 
 	function fail(msg) {

@@ -2,6 +2,7 @@ package ui
 
 import (
 	"encoding/json"
+	"fmt"
 	"strconv"
 	"strings"
 
@@ -23,6 +24,7 @@ type BriefView struct {
 	err     string
 	note    string
 	confirm bool // "start fresh" asked once, waiting for the second click
+	cache   map[string]briefRun
 }
 
 // Printer is a Host that can open the browser's print dialog.
@@ -51,32 +53,55 @@ func (w *Workspace) BriefFile() (*analysis.AnalysisFile, error) {
 }
 
 // current builds the briefing when its items, analyses, title or data
-// changed since the last build.
+// changed since the last build. Each analysis is run once per settings and
+// data: moving an item or retitling the brief reuses the runs.
 func (c *BriefView) current() *brief.Brief {
 	f, err := c.WS.BriefFile()
 	if err != nil {
 		c.err, c.b = err.Error(), nil
 		return nil
 	}
-	var names strings.Builder
-	for _, d := range f.Files {
-		names.WriteString(d.Name + "\x00" + d.Text[:min(len(d.Text), 64)] + "\x00")
+	// the data's identity: a file read again (other options, new bytes)
+	// gets a new result
+	var data strings.Builder
+	for _, fl := range c.WS.Files {
+		fmt.Fprintf(&data, "%s\x00%d\x00%p\x00", fl.Name, len(fl.Data), fl.Result)
 	}
 	raw, _ := json.Marshal(struct {
 		A []analysis.Analysis
 		B *analysis.BriefSpec
-		F string
-		N int
-	}{f.Analyses, f.Brief, names.String(), len(f.Files)})
-	if sig := string(raw); sig != c.sig || c.b == nil {
-		c.sig, c.err = sig, ""
-		w, werr := f.Workspace()
-		if werr != nil {
-			c.err = werr.Error()
+	}{f.Analyses, f.Brief})
+	sig := string(raw) + data.String()
+	if sig == c.sig && c.b != nil {
+		return c.b
+	}
+	c.sig, c.err = sig, ""
+	w, werr := f.Workspace()
+	if werr != nil {
+		c.err = werr.Error()
+	}
+	keys := map[string]string{}
+	shown := map[string]*analysis.Shown{}
+	for _, a := range f.Analyses {
+		js, _ := json.Marshal(a)
+		keys[a.ID] = string(js) + data.String()
+		if old, ok := c.cache[a.ID]; ok && old.key == keys[a.ID] {
+			shown[a.ID] = old.sh
 		}
-		c.b = brief.Build(f, w, brief.Options{})
+	}
+	c.b = brief.Build(f, w, brief.Options{Shown: shown})
+	c.cache = map[string]briefRun{}
+	for id, sh := range shown {
+		c.cache[id] = briefRun{key: keys[id], sh: sh}
 	}
 	return c.b
+}
+
+// briefRun is an analysis run for the brief, with the settings and data it
+// was run on.
+type briefRun struct {
+	key string
+	sh  *analysis.Shown
 }
 
 func (c *BriefView) items() []brief.Item {

@@ -105,6 +105,11 @@ func (c *DriversView) setup() {
 		if c.picks == nil {
 			c.picks = map[string]*driverPick{}
 		}
+		for k, v := range c.picks {
+			if v == nil {
+				delete(c.picks, k)
+			}
+		}
 		if st["fitted"] == "true" {
 			c.WS.Do("fitting the drivers", c.run)
 		}

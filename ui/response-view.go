@@ -208,6 +208,11 @@ func (c *ResponseView) setup() {
 		if c.picks == nil {
 			c.picks = map[string]*rsPick{}
 		}
+		for k, v := range c.picks {
+			if v == nil {
+				delete(c.picks, k)
+			}
+		}
 		if st["fitted"] == "true" {
 			c.fitErr = "The fit was saved with these settings: press Fit to run it again."
 		}

@@ -101,3 +101,15 @@ func (c *Root) show(id string) {
 func (c *Root) dismiss() {
 	c.WS.Do("dismissing the message", c.WS.DismissBanner)
 }
+
+func (c *Root) undoOpen() {
+	c.WS.Do("going back to the previous work", func() {
+		if err := c.WS.UndoOpen(); err != nil {
+			panic(err)
+		}
+	})
+}
+
+func (c *Root) keepOpened() {
+	c.WS.Do("keeping the opened file", func() { c.WS.Undo, c.WS.UndoName = nil, "" })
+}

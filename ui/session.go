@@ -4,6 +4,7 @@ import (
 	"bytes"
 	"encoding/json"
 	"fmt"
+	"reflect"
 	"strconv"
 	"strings"
 
@@ -174,6 +175,10 @@ func (w *Workspace) AnalysisFile() (*analysis.AnalysisFile, error) {
 			f.Analyses = append(f.Analyses, a)
 		}
 	}
+	// the brief's analyses first: their settings are what its items show
+	for _, a := range w.Brief.Analyses {
+		add(a)
+	}
 	for _, v := range Views() {
 		if s, ok := w.views[v.ID]; ok {
 			st, list := s.PageState()
@@ -193,7 +198,9 @@ func (w *Workspace) AnalysisFile() (*analysis.AnalysisFile, error) {
 			}
 		}
 	}
-	for _, a := range w.Brief.Analyses {
+	// analyses of the opened file that nothing above holds (a panel not
+	// run again since, or analyses written by hand) are kept
+	for _, a := range w.loadedAnalyses {
 		add(a)
 	}
 	if len(w.Brief.Items) > 0 || w.Brief.Title != "" {
@@ -227,6 +234,7 @@ func (w *Workspace) SaveBytes() ([]byte, error) {
 // briefing. The views are made afresh (the root sees Generation change).
 func (w *Workspace) LoadAnalysisFile(f *analysis.AnalysisFile) {
 	w.Clear()
+	w.Undo, w.UndoName = nil, ""
 	demo := map[string]string{}
 	for _, d := range heatledger.DemoFiles() {
 		demo[d.Name] = string(d.Data)
@@ -282,7 +290,7 @@ func (w *Workspace) LoadAnalysisFile(f *analysis.AnalysisFile) {
 
 // FormOf is the reading form that gives these reading options.
 func FormOf(r analysis.ReadingOptions) analysis.ReadingForm {
-	f := analysis.ReadingForm{Delimiter: r.Delimiter, DateOrder: r.DateOrder}
+	f := analysis.ReadingForm{Delimiter: r.Delimiter, DateOrder: r.DateOrder, MinDays: r.MinDays}
 	if r.Scale != 0 {
 		f.Scale = strconv.FormatFloat(r.Scale, 'g', -1, 64)
 	}
@@ -347,7 +355,12 @@ func (s formState) load(m map[string]string) {
 	}
 	for k, p := range s.objs {
 		if v, ok := m[k]; ok {
-			json.Unmarshal([]byte(v), p)
+			// decode onto a zero value: a field saved empty (and left out
+			// by omitempty) must not come back as the view's default
+			fresh := reflect.New(reflect.TypeOf(p).Elem())
+			if json.Unmarshal([]byte(v), fresh.Interface()) == nil {
+				reflect.ValueOf(p).Elem().Set(fresh.Elem())
+			}
 		}
 	}
 }
@@ -385,6 +398,7 @@ func (w *Workspace) AddOrOpen(name string, data []byte) {
 }
 
 // OpenAnalysis parses an analysis file and loads it (see LoadAnalysisFile).
+// The work it replaces is kept in Undo, so the page can offer to go back.
 func (w *Workspace) OpenAnalysis(name string, data []byte) error {
 	f, err := analysis.ParseAnalysisFile(data)
 	if err != nil {
@@ -393,6 +407,26 @@ func (w *Workspace) OpenAnalysis(name string, data []byte) error {
 		}
 		return err
 	}
+	var prev []byte
+	if len(w.Files) > 0 || len(w.Brief.Items) > 0 {
+		prev, _ = w.SaveBytes()
+	}
 	w.LoadAnalysisFile(f)
+	w.Undo, w.UndoName = prev, name
+	return nil
+}
+
+// UndoOpen goes back to the work an opened analysis file replaced.
+func (w *Workspace) UndoOpen() error {
+	prev := w.Undo
+	if prev == nil {
+		return nil
+	}
+	f, err := analysis.ParseAnalysisFile(prev)
+	if err != nil {
+		return err
+	}
+	w.LoadAnalysisFile(f)
+	w.Undo, w.UndoName = nil, ""
 	return nil
 }

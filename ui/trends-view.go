@@ -84,6 +84,10 @@ type TrendsView struct {
 	init bool
 
 	// the settings of each panel as last computed (nil: not shown)
+	// the grid cell in keyboard focus: its key and step indices
+	gridCell     string
+	gridS, gridE int
+
 	mainSet *analysis.TrendSettings
 	cmpSet  *analysis.CompareSettings
 	gridSet *analysis.GridSettings
@@ -471,7 +475,7 @@ func (c *TrendsView) setPlain(f *string, ev vugu.DOMEvent) {
 
 func (c *TrendsView) runGrid() {
 	c.WS.Do("computing the trend grid", func() {
-		c.grid, c.gridErr, c.gridSet = nil, "", nil
+		c.grid, c.gridErr, c.gridSet, c.gridCell = nil, "", nil, ""
 		min, err := strconv.ParseFloat(c.gridMin, 64)
 		if err != nil || !(min > 0) {
 			c.gridErr = fmt.Sprintf("Shortest window: %q is not a positive number of years.", c.gridMin)
@@ -507,6 +511,71 @@ func (c *TrendsView) onGridClick(ev vugu.DOMEvent) {
 		}
 		c.useGridKey(el.Call("getAttribute", "data-key").String())
 	})
+}
+
+// onGridKey walks the grid's cells from the keyboard: the left and right
+// arrows move the window's start, up and down its end (by one step, or
+// ten with Shift); Enter or Space uses the window. The cell in focus is
+// read out in #hl-grid-cell.
+func (c *TrendsView) onGridKey(ev vugu.DOMEvent) {
+	c.WS.Do("choosing a window from the grid", func() {
+		if c.grid == nil || len(c.grid.Labels) == 0 {
+			return
+		}
+		step := 1
+		if ev.PropBool("shiftKey") {
+			step = 10
+		}
+		ds, de := 0, 0
+		switch ev.PropString("key") {
+		case "ArrowLeft":
+			ds = -step
+		case "ArrowRight":
+			ds = step
+		case "ArrowDown":
+			de = -step
+		case "ArrowUp":
+			de = step
+		case "Enter", " ":
+			ev.PreventDefault()
+			if c.gridCell != "" {
+				c.useGridKey(c.gridCell)
+			}
+			return
+		default:
+			return
+		}
+		ev.PreventDefault()
+		labels := c.grid.Labels
+		if c.gridCell == "" {
+			// start at the longest window
+			for s := 0; s < len(labels) && c.gridCell == ""; s++ {
+				if k := labels[s] + analysis.GridKeySep + labels[len(labels)-1]; c.grid.Titles[k] != "" {
+					c.gridS, c.gridE, c.gridCell = s, len(labels)-1, k
+				}
+			}
+			return
+		}
+		s, e := c.gridS, c.gridE
+		for i := 0; i < len(labels); i++ {
+			s, e = s+ds, e+de
+			if s < 0 || e < 0 || s >= len(labels) || e >= len(labels) {
+				return // at the edge: stay on the cell in focus
+			}
+			if k := labels[s] + analysis.GridKeySep + labels[e]; c.grid.Titles[k] != "" {
+				c.gridS, c.gridE, c.gridCell = s, e, k
+				return
+			}
+		}
+	})
+}
+
+// gridCellText is the cell in keyboard focus, read out.
+func (c *TrendsView) gridCellText() string {
+	if c.grid == nil || c.gridCell == "" {
+		return "Focus the grid and use the arrow keys to walk its cells (left and right: start; up and down: end; Shift: ten steps), Enter to use a window."
+	}
+	return c.grid.Titles[c.gridCell]
 }
 
 // useGridKey sets the window from a heatmap key "FROM|TO".

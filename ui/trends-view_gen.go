@@ -1354,7 +1354,7 @@ func (c *TrendsView) Build(vgin *vugu.BuildIn) (vgout *vugu.BuildOut) {
 			vgn = &vugu.VGNode{Type: vugu.VGNodeType(1), Data: "\n\t\t"}
 			vgparent.AppendChild(vgn)
 			if c.grid != nil {
-				vgn = &vugu.VGNode{Type: vugu.VGNodeType(3), Namespace: "", Data: "div", Attr: []vugu.VGAttribute{{Namespace: "", Key: "class", Val: "hl-chart hl-clickable"}, vugu.VGAttribute{Namespace: "", Key: "id", Val: "hl-grid-chart"}}}
+				vgn = &vugu.VGNode{Type: vugu.VGNodeType(3), Namespace: "", Data: "div", Attr: []vugu.VGAttribute{{Namespace: "", Key: "class", Val: "hl-chart hl-clickable"}, vugu.VGAttribute{Namespace: "", Key: "id", Val: "hl-grid-chart"}, vugu.VGAttribute{Namespace: "", Key: "tabindex", Val: "0"}, vugu.VGAttribute{Namespace: "", Key: "aria-describedby", Val: "hl-grid-cell"}}}
 				vgparent.AppendChild(vgn)
 				vgn.SetInnerHTML(c.gridMarkup())
 				vgn.DOMEventHandlerSpecList = append(vgn.DOMEventHandlerSpecList, vugu.DOMEventHandlerSpec{
@@ -1362,6 +1362,18 @@ func (c *TrendsView) Build(vgin *vugu.BuildIn) (vgout *vugu.BuildOut) {
 					Func:      func(event vugu.DOMEvent) { c.onGridClick(event) },
 					// TODO: implement capture, etc. mostly need to decide syntax
 				})
+				vgn.DOMEventHandlerSpecList = append(vgn.DOMEventHandlerSpecList, vugu.DOMEventHandlerSpec{
+					EventType: "keydown",
+					Func:      func(event vugu.DOMEvent) { c.onGridKey(event) },
+					// TODO: implement capture, etc. mostly need to decide syntax
+				})
+			}
+			vgn = &vugu.VGNode{Type: vugu.VGNodeType(1), Data: "\n\t\t"}
+			vgparent.AppendChild(vgn)
+			if c.grid != nil {
+				vgn = &vugu.VGNode{Type: vugu.VGNodeType(3), Namespace: "", Data: "p", Attr: []vugu.VGAttribute{{Namespace: "", Key: "class", Val: "hl-small"}, vugu.VGAttribute{Namespace: "", Key: "id", Val: "hl-grid-cell"}, vugu.VGAttribute{Namespace: "", Key: "aria-live", Val: "polite"}}}
+				vgparent.AppendChild(vgn)
+				vgn.SetInnerHTML(c.gridCellText())
 			}
 			vgn = &vugu.VGNode{Type: vugu.VGNodeType(1), Data: "\n\t\t"}
 			vgparent.AppendChild(vgn)

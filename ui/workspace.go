@@ -135,6 +135,11 @@ type Workspace struct {
 
 	// Brief is the briefing being built (the Brief view).
 	Brief BriefState
+	// Undo is the workspace (as an analysis file) that opening UndoName
+	// replaced; nil when there is nothing to go back to.
+	Undo     []byte
+	UndoName string
+
 	// Version counts changes (autosave saves when it moves); Generation
 	// counts loads of a whole analysis file (the views are made afresh).
 	Version, Generation int

@@ -227,7 +227,7 @@ func embedFigure(f *analysis.AnalysisFile, id, view string) (title, svg string, 
 		}
 	}
 	if len(figs) == 0 {
-		return "", "", fmt.Errorf("analysis %q is of kind %s, which draws no figure here: its numbers are in the report of heatledger.run", id, a.Kind)
+		return "", "", fmt.Errorf("analysis %q is of kind %s, which has no figure to embed: its numbers are in the report of heatledger.run", id, a.Kind)
 	}
 	return "", "", fmt.Errorf("analysis %q (%s) has no view %q (or it is empty): expected one of %q", id, a.Kind, view, figs)
 }

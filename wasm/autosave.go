@@ -42,9 +42,13 @@ func restoreSaved(ws *ui.Workspace) bool {
 	restored := false
 	ws.Do("restoring "+savedName, func() {
 		if err := ws.OpenAnalysis("autosave", []byte(v.String())); err != nil {
+			// keep the unreadable copy under another key before autosave
+			// writes over "current"
+			go await(s.Call("aside", v))
 			ws.Banner = append(ws.Banner, "The workspace kept in this browser could not be read and was set aside ("+err.Error()+"); the demo world is shown instead.")
 			return
 		}
+		ws.Undo, ws.UndoName = nil, ""
 		restored = true
 	})
 	return restored
@@ -75,16 +79,18 @@ func autosave(env vugu.EventEnv, ws *ui.Workspace) {
 			}()
 			data, err = ws.SaveBytes()
 		}()
-		saved = ws.Version // what SaveBytes itself changed is saved too
+		version := ws.Version // what SaveBytes itself changed is saved too
 		env.UnlockOnly()
 		if err != nil {
 			fmt.Println("heatledger: autosave skipped:", err)
 			continue
 		}
 		if _, err := await(s.Call("put", string(data))); err != nil {
+			// not marked saved: the next tick tries again
 			fmt.Println("heatledger: autosave failed:", err)
 			continue
 		}
+		saved = version
 		js.Global().Get("document").Get("body").Get("dataset").Set("saved", fmt.Sprint(saved))
 	}
 }

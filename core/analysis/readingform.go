@@ -15,12 +15,15 @@ type ReadingForm struct {
 	Missing   string // "" = the default codes; "none"; or codes separated by commas or spaces
 	Scale     string // "" = 1
 	DateOrder string // "", dmy or mdy
+	// MinDays is carried from an analysis file (the page has no field
+	// for it): days a month of daily data needs; 0 is the default.
+	MinDays int
 }
 
 // Reading turns the form into reading options, with a message naming the
 // field that is wrong.
 func (f ReadingForm) Reading() (ReadingOptions, error) {
-	r := ReadingOptions{Delimiter: f.Delimiter, DateOrder: f.DateOrder}
+	r := ReadingOptions{Delimiter: f.Delimiter, DateOrder: f.DateOrder, MinDays: f.MinDays}
 	switch f.Delimiter {
 	case "", "comma", "semicolon", "tab", "space":
 	default:

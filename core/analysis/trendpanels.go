@@ -162,6 +162,11 @@ type GridView struct {
 	Result  *trend.GridResult `json:"result"`
 	SVG     string            `json:"-"`
 	Summary string            `json:"summary"`
+	// Labels are the step labels of the series; Titles maps each drawn
+	// cell's key ("FROM|TO") to its text, so the page can walk the cells
+	// from the keyboard and read each one out.
+	Labels []string          `json:"-"`
+	Titles map[string]string `json:"-"`
 }
 
 // GridKeySep separates the start and end labels in a heatmap cell's key.
@@ -218,7 +223,10 @@ func (w *Workspace) GridFigure(s GridSettings, mark string) (*GridView, error) {
 			Title: fmt.Sprintf("%s to %s: %s %s per decade (standard error %s, n %d)", from, to, Fmt(c.SlopePerDecade), unit, Fmt(c.StderrPerDecade), c.N),
 			Key:   from + GridKeySep + to})
 	}
-	v := &GridView{Result: g, SVG: h.SVG()}
+	v := &GridView{Result: g, SVG: h.SVG(), Labels: g.Labels, Titles: make(map[string]string, len(h.Cells))}
+	for _, c := range h.Cells {
+		v.Titles[c.Key] = c.Title
+	}
 	v.Summary = fmt.Sprintf("%d windows. At the %g%% level, %d have intervals that exclude zero and %d exclude the full-record trend; about %.0f would exclude the full-record trend by chance alone if the rate never changed. Neighbouring windows overlap, so they are far from independent: choosing the most striking window after looking is a multiple-testing trap.",
 		g.Cells, 100*g.Level, g.ExcludingZero, g.ExcludingFullTrend, g.ExpectedByChance)
 	return v, nil

@@ -130,13 +130,24 @@ func Build(f *analysis.AnalysisFile, w *analysis.Workspace, opt Options) *Brief 
 			continue
 		}
 		sh := shown[id]
-		b.Methods = append(b.Methods, tx.methods(a, sh.View))
-		b.Results = append(b.Results, tx.results(a, sh.View))
+		b.Methods = append(b.Methods, safeText(a, "methods", func() string { return tx.methods(a, sh.View) }))
+		b.Results = append(b.Results, safeText(a, "results", func() string { return tx.results(a, sh.View) }))
 	}
 	b.Data = tx.dataLines(f)
 	b.Caveats = tx.caveatList()
 	b.References = tx.refList()
 	return b
+}
+
+// safeText writes one paragraph; a panic becomes a sentence saying so, so
+// one analysis cannot stop the briefing (or the page drawing it).
+func safeText(a analysis.Analysis, what string, f func() string) (out string) {
+	defer func() {
+		if r := recover(); r != nil {
+			out = fmt.Sprintf("%s: the %s could not be written: internal error: %v", label(a), what, r)
+		}
+	}()
+	return f()
 }
 
 func contains(list []string, s string) bool {

@@ -185,7 +185,7 @@ func (b *Brief) Markdown() (text string, figures map[string]string) {
 
 // mdText keeps text from being read as Markdown or HTML markup.
 func mdText(s string) string {
-	r := strings.NewReplacer("\\", "\\\\", "*", "\\*", "_", "\\_", "`", "\\`", "[", "\\[", "]", "\\]", "<", "&lt;", ">", "&gt;", "|", "\\|", "#", "\\#", "\n", " ")
+	r := strings.NewReplacer("\\", "\\\\", "*", "\\*", "_", "\\_", "`", "\\`", "[", "\\[", "]", "\\]", "<", "&lt;", ">", "&gt;", "|", "\\|", "#", "\\#", "\n", " ", "\r", " ")
 	return r.Replace(s)
 }
 

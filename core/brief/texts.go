@@ -139,11 +139,19 @@ func (t *texts) uses(a analysis.Analysis) {
 	case *analysis.HeatSettings:
 		t.use(s.Series)
 	case *analysis.SensitivitySettings:
-		t.use(s.DT.Series)
-		for _, q := range s.DF {
+		for _, q := range append([]analysis.BudgetQuantity{s.DT, s.DN}, s.DF...) {
 			t.use(q.Series)
+			if q.Forcing != nil {
+				for _, c := range q.Forcing.Components {
+					t.use(c.Series)
+				}
+			}
+			if q.Model != nil {
+				for _, c := range q.Model.Forcing.Components {
+					t.use(c.Series)
+				}
+			}
 		}
-		t.use(s.DN.Series)
 	}
 }
 
@@ -224,7 +232,7 @@ func (t *texts) unit(ref string) string {
 
 // noiseText says how a trend's standard error treats the residuals.
 func (t *texts) noiseText(noise string) string {
-	switch noise {
+	switch strings.ToLower(strings.TrimSpace(noise)) {
 	case "white":
 		return "ordinary least squares with independent (white-noise) residuals"
 	case "", "ar1":
@@ -290,8 +298,12 @@ func (t *texts) methods(a analysis.Analysis, v any) string {
 		}
 		extra := ""
 		if r, ok := v.(*analysis.BreaksView); ok && r.Result != nil {
-			extra = fmt.Sprintf(" Up to %d breaks at least %s years apart were searched by dynamic programming over segment ends (%s); the number of breaks was chosen by BIC and confirmed by a Monte Carlo test with %d simulations under %s noise at alpha %s (seed %d); break intervals come from %d %s bootstrap replicates.",
-				r.Result.MaxBreaks, sig(r.Result.MinYears, 4), t.cite("Bai and Perron 2003"), r.Result.Sims, r.Result.Noise, sig(r.Result.Alpha, 3), r.Result.Seed, r.Result.Boot, r.Result.BootMethod)
+			search := "an exhaustive search over break times for the continuous broken line (" + t.cite("Muggeo 2003") + ")"
+			if r.Result.Model == "mean" {
+				search = "dynamic programming over segment ends (" + t.cite("Bai and Perron 2003") + ")"
+			}
+			extra = fmt.Sprintf(" Up to %d breaks at least %s years apart were searched by %s; the number of breaks was chosen by BIC and confirmed by a Monte Carlo test with %d simulations under %s at alpha %s (seed %d); break intervals come from %d %s bootstrap replicates.",
+				r.Result.MaxBreaks, sig(r.Result.MinYears, 4), search, r.Result.Sims, noiseName(r.Result.Noise), sig(r.Result.Alpha, 3), r.Result.Seed, r.Result.Boot, r.Result.BootMethod)
 		}
 		return head + fmt.Sprintf("Changes in the %s of %s over %s were searched for.%s", model, s.Series, window(s.From, s.To), extra)
 	case *analysis.SenSettings:
@@ -341,24 +353,32 @@ func (t *texts) methods(a analysis.Analysis, v any) string {
 		case "series":
 			tk = "the series " + s.TrendSeries + " as the trend term"
 		}
-		found := ""
+		found, cycle := "", "the annual cycle"
 		if r, ok := v.(*analysis.DriversView); ok && r.Result != nil {
 			out := analysis.AdjustOutput(r.Result)
+			switch out.Harmonics {
+			case 0:
+				cycle = "no annual cycle"
+			case 1:
+				cycle = "the annual cycle (one harmonic)"
+			default:
+				cycle = fmt.Sprintf("the annual cycle (%d harmonics)", out.Harmonics)
+			}
 			var lags []string
 			for _, d := range out.Drivers {
 				lags = append(lags, fmt.Sprintf("%s %d months", d.Name, d.LagMonths))
 			}
 			found = fmt.Sprintf(" The lags found were: %s; %d months entered the fit (%d dropped for missing values).", strings.Join(lags, ", "), out.N, out.Dropped)
 		}
-		return head + fmt.Sprintf("%s over %s was regressed on %s, the annual cycle and the short-term factors %s, each lag chosen to minimise the residual sum of squares (%s); the adjusted series is the record less the factors' contributions. Standard errors allow for ARMA(1,1) residuals (%s); trends of the raw and adjusted series use %s at %s.%s",
-			s.Target, window(s.From, s.To), tk, strings.Join(ds, ", "), t.cite("Foster and Rahmstorf 2011"), t.cite("Foster and Rahmstorf 2011"), noiseName(s.Noise), pct(s.Level), found)
+		return head + fmt.Sprintf("%s over %s was regressed on %s, %s and the short-term factors %s, each lag chosen to minimise the residual sum of squares (%s); the adjusted series is the record less the factors' contributions. Standard errors allow for ARMA(1,1) residuals (%s); trends of the raw and adjusted series use %s at %s.%s",
+			s.Target, window(s.From, s.To), tk, cycle, strings.Join(ds, ", "), t.cite("Foster and Rahmstorf 2011"), t.cite("Foster and Rahmstorf 2011"), noiseName(s.Noise), pct(s.Level), found)
 	case *analysis.ForcingSettings:
 		t.caveats["ebm"] = true
 		return head + t.forcingText(*s)
 	case *analysis.RespondSettings:
 		t.caveats["ebm"] = true
 		m := "a two-layer energy balance model (" + t.cite("Held et al. 2010", "Geoffroy et al. 2013a") + ")"
-		if s.Model.Model == "onebox" {
+		if strings.EqualFold(strings.TrimSpace(s.Model.Model), "onebox") {
 			m = "a one-box energy balance model"
 		}
 		if s.Model.Preset != "" {
@@ -403,7 +423,11 @@ func (t *texts) methods(a analysis.Analysis, v any) string {
 			res := r.Report.Result
 			p += fmt.Sprintf("Their uncertainty comes from %d Monte Carlo draws (seed %d) of the inputs:", res.Draws, res.Seed)
 			for _, in := range res.Inputs {
-				p += fmt.Sprintf(" %s %s ± %s;", in.Role, sig(in.Center, 3), sig(in.SD, 2))
+				u := "W m-2"
+				if in.Role == "dT" {
+					u = "K"
+				}
+				p += fmt.Sprintf(" %s %s ± %s %s;", in.Role, sig(in.Center, 3), sig(in.SD, 2), u)
 			}
 			p = strings.TrimSuffix(p, ";") + "."
 			if s.Gregory != nil {
@@ -421,7 +445,7 @@ func (t *texts) methods(a analysis.Analysis, v any) string {
 }
 
 func noiseName(n string) string {
-	switch n {
+	switch strings.ToLower(strings.TrimSpace(n)) {
 	case "", "ar1":
 		return "AR(1) noise"
 	case "white":
@@ -457,7 +481,7 @@ func (t *texts) forcingText(s analysis.ForcingSettings) string {
 	}
 	p := "Effective radiative forcing was assembled from " + strings.Join(cs, ", ") + "."
 	if ghg {
-		if s.Formula == "etminan2016" {
+		if f := strings.ToLower(strings.TrimSpace(s.Formula)); f == "etminan2016" || f == "etminan" {
 			p += " Greenhouse gases use the formulas of " + t.cite("Etminan et al. 2016") + "."
 		} else {
 			p += " Greenhouse gases use the formulas of " + t.cite("Myhre et al. 1998") + " with the overlap term."
@@ -511,14 +535,15 @@ func (t *texts) results(a analysis.Analysis, v any) string {
 			return head + fmt.Sprintf("no change point was selected (n = %d).", r.N)
 		}
 		var bs, segs []string
+		u := t.unit(a.Settings.(*analysis.BreaksSettings).Series)
 		for _, b := range r.Breaks {
 			bs = append(bs, fmt.Sprintf("%s (%s interval %s to %s)", num(b.Time, 2), pct(r.Level), num(b.CILow, 2), num(b.CIHigh, 2)))
 		}
 		for _, s := range r.Segments {
 			if s.Mean != nil {
-				segs = append(segs, fmt.Sprintf("%s to %s: mean %s", num(s.From, 2), num(s.To, 2), num(*s.Mean, 3)))
+				segs = append(segs, fmt.Sprintf("%s to %s: mean %s %s", num(s.From, 2), num(s.To, 2), num(*s.Mean, 3), u))
 			} else {
-				segs = append(segs, fmt.Sprintf("%s to %s: %s per decade", num(s.From, 2), num(s.To, 2), num(s.SlopePerDecade, 3)))
+				segs = append(segs, fmt.Sprintf("%s to %s: %s %s per decade", num(s.From, 2), num(s.To, 2), num(s.SlopePerDecade, 3), u))
 			}
 		}
 		return head + fmt.Sprintf("%d change point(s) selected, at %s; segments %s.", r.Selected, strings.Join(bs, ", "), strings.Join(segs, "; "))
@@ -577,7 +602,7 @@ func (t *texts) results(a analysis.Analysis, v any) string {
 		return p
 	case *analysis.HeatView:
 		r := x.Result
-		return head + fmt.Sprintf("%s gained heat at %s ± %s ZJ per year over %s to %s, i.e. %s W m-2 (%s interval %s to %s) over %s.",
+		return head + fmt.Sprintf("the heat content of %s changed at %s ± %s ZJ per year over %s to %s, i.e. %s W m-2 (%s interval %s to %s) over %s.",
 			r.Series, num(r.ZJPerYear, 2), num(r.StderrZJPerYear, 2), r.From, r.To, num(r.RateWPerM2, 3), pct(r.Level), num(r.CILowWPerM2, 3), num(r.CIHighWPerM2, 3), areaText(r))
 	case *analysis.SensitivityView:
 		r := x.Report.Result
