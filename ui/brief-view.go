@@ -152,8 +152,6 @@ func (c *BriefView) itemCaption(i int, it brief.Item) string {
 	return what + " " + strconv.Itoa(i+1) + ". " + it.Title
 }
 
-
-
 func (c *BriefView) stem() string {
 	return fileStem(c.title())
 }
