@@ -52,6 +52,11 @@
 		// aside keeps a copy that could not be read, away from autosave
 		aside: function (text) { return storeDo("readwrite", function (s) { return s.put(text, "set-aside"); }); }
 	};
+	// start reading the saved workspace now, while the wasm loads
+	window.heatledgerSaved = window.heatledgerStore.get().catch(function (err) {
+		console.log("Heatledger: no saved workspace: " + err);
+		return null;
+	});
 
 	function fail(msg) {
 		var el = document.getElementById("hl-loading");

@@ -31,7 +31,11 @@ func restoreSaved(ws *ui.Workspace) bool {
 	if !ok {
 		return false
 	}
-	v, err := await(s.Call("get"))
+	p := js.Global().Get("heatledgerSaved") // started by loader.js
+	if p.Type() != js.TypeObject {
+		p = s.Call("get")
+	}
+	v, err := await(p)
 	if err != nil {
 		fmt.Println("heatledger: no autosaved workspace:", err)
 		return false
