@@ -142,7 +142,11 @@ func (c *BudgetView) Refs() []SeriesRef {
 				c.refreshHeat()
 				c.refreshPreview()
 				if st["ran"] == "true" {
-					c.runErr = "The energy-budget run was saved with these settings: press Run to draw again."
+					if c.WS.Env != nil {
+						c.start(c.WS.Env) // in the background, with its progress
+					} else {
+						c.runErr = "The energy-budget run was saved with these settings: press Run to draw again."
+					}
 				}
 			})
 		} else if first || c.lostSeries() {
@@ -586,6 +590,10 @@ func (c *BudgetView) previewWarnings() []string {
 // work hands the page back to the browser every few tens of milliseconds,
 // so the progress bar moves and Cancel works.
 func (c *BudgetView) run(ev vugu.DOMEvent) {
+	c.WS.Do("starting the energy-budget Monte Carlo", func() { c.start(ev.EventEnv()) })
+}
+
+func (c *BudgetView) start(env vugu.EventEnv) {
 	c.WS.Do("starting the energy-budget Monte Carlo", func() {
 		if c.running {
 			return
@@ -596,7 +604,6 @@ func (c *BudgetView) run(ev vugu.DOMEvent) {
 			c.formErr = err.Error()
 			return
 		}
-		env := ev.EventEnv()
 		c.runErr, c.note = "", ""
 		ctx, cancel := context.WithCancel(context.Background())
 		c.cancel, c.running, c.done, c.total = cancel, true, 0, 0

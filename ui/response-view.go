@@ -198,7 +198,8 @@ func (c *ResponseView) setup() {
 		c.free[f] = true
 	}
 	c.winFrom, c.winTo = d.From, d.To
-	if st := c.WS.ViewState("response"); st != nil {
+	st := c.WS.ViewState("response")
+	if st != nil {
 		c.form().load(st)
 		for _, m := range []*map[string]bool{&c.free, &c.drivers} {
 			if *m == nil {
@@ -213,11 +214,15 @@ func (c *ResponseView) setup() {
 				delete(c.picks, k)
 			}
 		}
-		if st["fitted"] == "true" {
+	}
+	c.refresh()
+	if st != nil && st["fitted"] == "true" {
+		if c.WS.Env != nil {
+			c.startFit(c.WS.Env) // in the background, with its progress
+		} else {
 			c.fitErr = "The fit was saved with these settings: press Fit to run it again."
 		}
 	}
-	c.refresh()
 }
 
 // num shows a default value in a form field.
@@ -666,6 +671,10 @@ func (c *ResponseView) driverRefs() []SeriesRef {
 // tables are drawn. Cancel stops the fit at its next hand-back to the
 // browser and drops the result.
 func (c *ResponseView) runFit(ev vugu.DOMEvent) {
+	c.WS.Do("starting the fit", func() { c.startFit(ev.EventEnv()) })
+}
+
+func (c *ResponseView) startFit(env vugu.EventEnv) {
 	c.WS.Do("starting the fit", func() {
 		if c.fitRunning {
 			return
@@ -675,7 +684,6 @@ func (c *ResponseView) runFit(ev vugu.DOMEvent) {
 			c.fitErr, c.fit, c.fitStale, c.fitSet = err.Error(), nil, false, nil
 			return
 		}
-		env := ev.EventEnv()
 		aw := c.WS.Analysis()
 		kept := s
 		c.fitGen++

@@ -133,8 +133,8 @@ func (c *TrendsView) PageState() (map[string]string, []analysis.Analysis) {
 	return st, list
 }
 
-// restore applies a loaded form and recomputes the quick panels that were
-// shown (the change-point search waits for a click: it takes seconds).
+// restore applies a loaded form and recomputes the panels that were shown
+// (the change-point search in the background, as after a click).
 func (c *TrendsView) restore(st map[string]string) {
 	c.form().load(st)
 	if c.picked == nil {
@@ -151,7 +151,11 @@ func (c *TrendsView) restore(st map[string]string) {
 		c.runSen()
 	}
 	if st["shown_breaks"] == "true" {
-		c.brkErr = "The change-point search was saved with these settings: press Search to run it again."
+		if c.WS.Env != nil {
+			c.startBreaks(c.WS.Env) // in the background, with its progress
+		} else {
+			c.brkErr = "The change-point search was saved with these settings: press Search to run it again."
+		}
 	}
 }
 
@@ -625,6 +629,10 @@ func (c *TrendsView) onBrkModel(ev vugu.DOMEvent) { c.setPlain(&c.brkModel, ev) 
 // Carlo work hands the page back to the browser every few tens of
 // milliseconds, so the progress bar moves and Cancel works.
 func (c *TrendsView) runBreaks(ev vugu.DOMEvent) {
+	c.WS.Do("starting the change-point search", func() { c.startBreaks(ev.EventEnv()) })
+}
+
+func (c *TrendsView) startBreaks(env vugu.EventEnv) {
 	c.WS.Do("starting the change-point search", func() {
 		if c.brkRunning {
 			return
@@ -652,7 +660,6 @@ func (c *TrendsView) runBreaks(ev vugu.DOMEvent) {
 		ctx, cancel := context.WithCancel(context.Background())
 		c.brkCancel, c.brkRunning, c.brkDone, c.brkTotal = cancel, true, 0, 0
 		aw := c.WS.Analysis()
-		env := ev.EventEnv()
 		go func() {
 			c.WS.Yield() // hand the click back to the browser first
 			progress := c.WS.Progress(env, func(done, total int) { c.brkDone, c.brkTotal = done, total })

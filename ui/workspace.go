@@ -135,6 +135,11 @@ type Workspace struct {
 
 	// Brief is the briefing being built (the Brief view).
 	Brief BriefState
+	// Env is the page's event environment (set by the browser main), so
+	// work restored from a saved file can run in the background as after
+	// a click; nil in native tests.
+	Env vugu.EventEnv
+
 	// Undo is the workspace (as an analysis file) that opening UndoName
 	// replaced; nil when there is nothing to go back to.
 	Undo     []byte

@@ -54,6 +54,7 @@ func main() {
 	}
 
 	ws := ui.NewWorkspace(browserHost{})
+	ws.Env = env
 	if !restoreSaved(ws) {
 		ws.Do("loading the demo world", ws.LoadDemo)
 	}

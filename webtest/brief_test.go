@@ -71,21 +71,25 @@ func TestBriefWholeSession(t *testing.T) {
 	p.click("#hl-view-budget")
 	p.waitFor("the heating rate", `!!document.getElementById("hl-bu-heat-brief")`)
 	p.click("#hl-bu-heat-brief")
+	// and the energy-budget Monte Carlo
+	p.click("#hl-bu-run")
+	p.waitFor("the Monte Carlo", `!!document.getElementById("hl-bu-brief")`)
+	p.click("#hl-bu-brief")
 
-	// Brief: 1 + 2 + 2 items, with methods, results, caveats, references
-	p.brOpenBrief(5)
+	// Brief: 1 + 2 + 2 + 2 items, with methods, results, caveats, references
+	p.brOpenBrief(7)
 	methods := eval[string](p, `document.getElementById("hl-brief-text").textContent`)
-	for _, want := range []string{"Foster and Rahmstorf 2011", "Methods", "Results", "Caveats", "References", "not a proof of cause", "W m-2", "lags found"} {
+	for _, want := range []string{"Foster and Rahmstorf 2011", "Methods", "Results", "Caveats", "References", "not a proof of cause", "W m-2", "lags found", "Otto et al. 2013", "Monte Carlo draws (seed"} {
 		if !strings.Contains(methods, want) {
 			t.Errorf("the brief's text lacks %q", want)
 		}
 	}
-	if n := eval[int](p, `document.querySelectorAll("#hl-brief-text figure svg").length`); n != 3 {
-		t.Errorf("the brief shows %d figures, want 3 (trend, adjusted series, heating rate)", n)
+	if n := eval[int](p, `document.querySelectorAll("#hl-brief-text figure svg").length`); n != 4 {
+		t.Errorf("the brief shows %d figures, want 4 (trend, adjusted series, heating rate, ECS)", n)
 	}
 	// each figure has its numbers as a table (its text alternative)
-	if n := eval[int](p, `document.querySelectorAll("#hl-brief-text figure details table").length`); n != 3 {
-		t.Errorf("%d figures carry a table of their numbers, want 3", n)
+	if n := eval[int](p, `document.querySelectorAll("#hl-brief-text figure details table").length`); n != 4 {
+		t.Errorf("%d figures carry a table of their numbers, want 4", n)
 	}
 	p.trSet("#hl-brief-title", "Tessary <b>briefing</b>")
 	p.waitFor("the new title", `document.querySelector("#hl-brief-text h1").textContent === "Tessary <b>briefing</b>"`)
@@ -107,8 +111,8 @@ func TestBriefWholeSession(t *testing.T) {
 	p.click("#hl-brief-md")
 	zipped := p.trWaitDownload(d, "tessary-b-briefing-b-markdown.zip")
 	md, figs := brUnzip(t, zipped)
-	if len(figs) != 3 {
-		t.Errorf("the Markdown zip holds %d SVG files, want 3", len(figs))
+	if len(figs) != 4 {
+		t.Errorf("the Markdown zip holds %d SVG files, want 4", len(figs))
 	}
 	for name := range figs {
 		if !strings.Contains(md, "]("+name+")") {
@@ -122,7 +126,7 @@ func TestBriefWholeSession(t *testing.T) {
 	if err != nil {
 		t.Fatalf("the saved analysis file does not parse: %v", err)
 	}
-	if f.Brief == nil || len(f.Brief.Items) != 5 || len(f.Files) != 4 {
+	if f.Brief == nil || len(f.Brief.Items) != 7 || len(f.Files) != 4 {
 		t.Fatalf("the saved file holds %d files and brief %+v", len(f.Files), f.Brief)
 	}
 	for _, v := range []string{"trends", "drivers", "budget"} {
@@ -171,10 +175,13 @@ func TestBriefWholeSession(t *testing.T) {
 	if !slicesContain(p.fileNames(), "station.csv") {
 		t.Errorf("after a reload the files are %v, want station.csv among them", p.fileNames())
 	}
-	p.brOpenBrief(5)
+	p.brOpenBrief(7)
 	if got := eval[string](p, `document.querySelector("#hl-brief-text h1").textContent`); got != "Tessary <b>briefing</b>" {
 		t.Errorf("after a reload the title is %q", got)
 	}
+	// the Monte Carlo shown before runs again by itself
+	p.click("#hl-view-budget")
+	p.waitFor("the Monte Carlo run again", `!!document.getElementById("hl-bu-brief")`)
 	p.click("#hl-view-trends")
 	p.waitFor("the trend table", `document.querySelectorAll("#hl-tr-table tbody tr").length > 0`)
 	if v := p.trValue("#hl-tr-noise"); v != "arma11" {
@@ -200,7 +207,7 @@ func TestBriefWholeSession(t *testing.T) {
 	path := filepath.Join(dir, "again"+analysis.AnalysisExt)
 	os.WriteFile(path, saved, 0o644)
 	p.do(chromedp.SetUploadFiles(chromedp.ID("hl-open-input"), []string{path}))
-	p.brOpenBrief(5)
+	p.brOpenBrief(7)
 	p.click("#hl-view-data")
 	p.waitFor("the files", `!!document.querySelector("article[data-file]")`)
 	if !slicesContain(p.fileNames(), "station.csv") {

@@ -222,6 +222,33 @@ func ptr(p *float64) float64 {
 	return *p
 }
 
+// name shows a series reference in the text: its name, with its file in
+// brackets when another file holds a series of that name.
+func (t *texts) name(ref string) string {
+	sr, err := t.w.Find(ref)
+	if err != nil {
+		return ref
+	}
+	n := 0
+	for _, o := range t.w.All() {
+		if o.Name == sr.Name {
+			n++
+		}
+	}
+	if n > 1 && sr.Source != "" {
+		return sr.Name + " (" + sr.Source + ")"
+	}
+	return sr.Name
+}
+
+func (t *texts) names(refs []string) string {
+	out := make([]string, len(refs))
+	for i, r := range refs {
+		out[i] = t.name(r)
+	}
+	return strings.Join(out, ", ")
+}
+
 // unit returns a series' unit ("units" when it has none).
 func (t *texts) unit(ref string) string {
 	if s, err := t.w.Find(ref); err == nil && s.Unit != "" {
@@ -274,11 +301,11 @@ func (t *texts) methods(a analysis.Analysis, v any) string {
 			an = " Monthly values were first made anomalies from each series' own mean seasonal cycle."
 		}
 		return head + fmt.Sprintf("The linear trend of %s over %s was fitted by %s; intervals at %s.%s",
-			strings.Join(s.Series, ", "), window(s.From, s.To), t.noiseText(s.Noise), pct(s.Level), an)
+			t.names(s.Series), window(s.From, s.To), t.noiseText(s.Noise), pct(s.Level), an)
 	case *analysis.CompareSettings:
 		t.caveats["trend"], t.caveats["choice"] = true, true
 		return head + fmt.Sprintf("The trends of %s over %s and over %s were fitted by %s, their difference tested against its combined standard error, and a continuous broken-stick regression (%s) tested for a change of slope at the break between the windows; intervals at %s.",
-			s.Series, window(s.WindowA[0], s.WindowA[1]), window(s.WindowB[0], s.WindowB[1]), t.noiseText(s.Noise), t.cite("Muggeo 2003"), pct(s.Level))
+			t.name(s.Series), window(s.WindowA[0], s.WindowA[1]), window(s.WindowB[0], s.WindowB[1]), t.noiseText(s.Noise), t.cite("Muggeo 2003"), pct(s.Level))
 	case *analysis.GridSettings:
 		t.caveats["trend"], t.caveats["choice"] = true, true
 		step, min := s.Step, s.MinYears
@@ -289,7 +316,7 @@ func (t *texts) methods(a analysis.Analysis, v any) string {
 			min = 10
 		}
 		return head + fmt.Sprintf("The trend of %s was computed over every window of at least %s years, starts and ends stepping by one %s, each by %s; intervals at %s.",
-			s.Series, sig(min, 4), step, t.noiseText(s.Noise), pct(s.Level))
+			t.name(s.Series), sig(min, 4), step, t.noiseText(s.Noise), pct(s.Level))
 	case *analysis.BreaksSettings:
 		t.caveats["trend"], t.caveats["choice"] = true, true
 		model := "slope (a continuous broken line)"
@@ -305,7 +332,7 @@ func (t *texts) methods(a analysis.Analysis, v any) string {
 			extra = fmt.Sprintf(" Up to %d breaks at least %s years apart were searched by %s; the number of breaks was chosen by BIC and confirmed by a Monte Carlo test with %d simulations under %s at alpha %s (seed %d); break intervals come from %d %s bootstrap replicates.",
 				r.Result.MaxBreaks, sig(r.Result.MinYears, 4), search, r.Result.Sims, noiseName(r.Result.Noise), sig(r.Result.Alpha, 3), r.Result.Seed, r.Result.Boot, r.Result.BootMethod)
 		}
-		return head + fmt.Sprintf("Changes in the %s of %s over %s were searched for.%s", model, s.Series, window(s.From, s.To), extra)
+		return head + fmt.Sprintf("Changes in the %s of %s over %s were searched for.%s", model, t.name(s.Series), window(s.From, s.To), extra)
 	case *analysis.SenSettings:
 		t.caveats["trend"] = true
 		corr := "no correction for autocorrelation"
@@ -316,7 +343,7 @@ func (t *texts) methods(a analysis.Analysis, v any) string {
 			corr = "the series prewhitened for lag-1 autocorrelation (" + t.cite("Yue et al. 2002") + ")"
 		}
 		return head + fmt.Sprintf("The Theil-Sen slope (%s) of %s over %s and the Mann-Kendall test (%s), with %s; intervals at %s.",
-			t.cite("Theil 1950", "Sen 1968"), s.Series, window(s.From, s.To), t.cite("Mann 1945", "Kendall 1975"), corr, pct(s.Level))
+			t.cite("Theil 1950", "Sen 1968"), t.name(s.Series), window(s.From, s.To), t.cite("Mann 1945", "Kendall 1975"), corr, pct(s.Level))
 	case *analysis.AdjustSettings:
 		t.caveats["adjust"], t.caveats["trend"] = true, true
 		var ds []string
@@ -330,7 +357,7 @@ func (t *texts) methods(a analysis.Analysis, v any) string {
 			} else if lo > hi {
 				hi = lo
 			}
-			x := d.Name
+			x := t.name(d.Name)
 			if lo == hi {
 				x += fmt.Sprintf(" (lag fixed at %d months", lo)
 			} else {
@@ -351,7 +378,7 @@ func (t *texts) methods(a analysis.Analysis, v any) string {
 		case "broken":
 			tk = "a broken linear trend (breaks " + strings.Join(s.Breaks, ", ") + ")"
 		case "series":
-			tk = "the series " + s.TrendSeries + " as the trend term"
+			tk = "the series " + t.name(s.TrendSeries) + " as the trend term"
 		}
 		found, cycle := "", "the annual cycle"
 		if r, ok := v.(*analysis.DriversView); ok && r.Result != nil {
@@ -371,7 +398,7 @@ func (t *texts) methods(a analysis.Analysis, v any) string {
 			found = fmt.Sprintf(" The lags found were: %s; %d months entered the fit (%d dropped for missing values).", strings.Join(lags, ", "), out.N, out.Dropped)
 		}
 		return head + fmt.Sprintf("%s over %s was regressed on %s, %s and the short-term factors %s, each lag chosen to minimise the residual sum of squares (%s); the adjusted series is the record less the factors' contributions. Standard errors allow for ARMA(1,1) residuals (%s); trends of the raw and adjusted series use %s at %s.%s",
-			s.Target, window(s.From, s.To), tk, cycle, strings.Join(ds, ", "), t.cite("Foster and Rahmstorf 2011"), t.cite("Foster and Rahmstorf 2011"), noiseName(s.Noise), pct(s.Level), found)
+			t.name(s.Target), window(s.From, s.To), tk, cycle, strings.Join(ds, ", "), t.cite("Foster and Rahmstorf 2011"), t.cite("Foster and Rahmstorf 2011"), noiseName(s.Noise), pct(s.Level), found)
 	case *analysis.ForcingSettings:
 		t.caveats["ebm"] = true
 		return head + t.forcingText(*s)
@@ -390,14 +417,14 @@ func (t *texts) methods(a analysis.Analysis, v any) string {
 			if len(s.Fit.Free) > 0 {
 				free = strings.Join(s.Fit.Free, ", ")
 			}
-			p += fmt.Sprintf(" The model was fitted by least squares to %s over %s with %s free", s.Fit.Target, window(s.Fit.From, s.Fit.To), free)
+			p += fmt.Sprintf(" The model was fitted by least squares to %s over %s with %s free", t.name(s.Fit.Target), window(s.Fit.From, s.Fit.To), free)
 			if s.Fit.Heat != "" {
-				p += ", jointly with the heat record " + s.Fit.Heat
+				p += ", jointly with the heat record " + t.name(s.Fit.Heat)
 			}
 			if len(s.Fit.Drivers) > 0 {
 				var ds []string
 				for _, d := range s.Fit.Drivers {
-					ds = append(ds, d.Name)
+					ds = append(ds, t.name(d.Name))
 				}
 				p += " and the short-term factors " + strings.Join(ds, ", ")
 			}
@@ -407,11 +434,13 @@ func (t *texts) methods(a analysis.Analysis, v any) string {
 	case *analysis.HeatSettings:
 		t.caveats["budget"] = true
 		area := s.Area
-		if area == "" {
-			area = "the default area"
+		if hv, ok := v.(*analysis.HeatView); ok && hv.Result != nil {
+			area = areaText(hv.Result)
+		} else if area == "" {
+			area = "the Earth's surface"
 		}
 		return head + fmt.Sprintf("The heating rate is the least-squares trend of %s over %s, fitted by %s, converted to W m-2 over %s; intervals at %s.",
-			s.Series, window(s.From, s.To), t.noiseText(s.Noise), area, pct(s.Level))
+			t.name(s.Series), window(s.From, s.To), t.noiseText(s.Noise), area, pct(s.Level))
 	case *analysis.SensitivitySettings:
 		t.caveats["budget"] = true
 		periods := "the changes given directly as distributions"
@@ -462,7 +491,7 @@ func (t *texts) forcingText(s analysis.ForcingSettings) string {
 	var cs []string
 	ghg, volc, solar := false, false, false
 	for _, c := range s.Components {
-		x := c.Series + " as " + c.Kind
+		x := t.name(c.Series) + " as " + c.Kind
 		if c.Scale != nil {
 			x += " scaled by " + sig(*c.Scale, 4)
 		}
@@ -618,7 +647,10 @@ func (t *texts) results(a analysis.Analysis, v any) string {
 }
 
 func areaText(r *budget.HeatResult) string {
-	return fmt.Sprintf("%s (%s m2)", r.Area.Name, sig(r.AreaM2, 4))
+	if r.Area.Source != "" {
+		return r.Area.Source
+	}
+	return fmt.Sprintf("%s m2", sig(r.AreaM2, 4))
 }
 
 func gregoryText(g *budget.GregoryResult) string {
