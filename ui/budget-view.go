@@ -91,16 +91,7 @@ func (c *BudgetView) formState() formState {
 // Monte Carlo shown.
 func (c *BudgetView) PageState() (map[string]string, []analysis.Analysis) {
 	c.Refs()
-	st := c.formState().save()
-	var list []analysis.Analysis
-	if c.heatSet != nil {
-		list = append(list, pageAnalysis("budget", "heat", c.heatSet))
-	}
-	st["ran"] = strconv.FormatBool(c.runSet != nil)
-	if c.runSet != nil {
-		list = append(list, pageAnalysis("budget", "sensitivity", c.runSet))
-	}
-	return st, list
+	return pageState("budget", c.formState(), shownPanel{"heat", c.heatSet, ""}, shownPanel{"sensitivity", c.runSet, "ran"})
 }
 
 // brief adds the heating rate or the sensitivity to the briefing.

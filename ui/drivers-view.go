@@ -74,12 +74,7 @@ func (c *DriversView) form() formState {
 // PageState is the form and, when a fit is shown, its analysis.
 func (c *DriversView) PageState() (map[string]string, []analysis.Analysis) {
 	c.setup()
-	st := c.form().save()
-	st["fitted"] = strconv.FormatBool(c.fitSet != nil)
-	if c.fitSet == nil {
-		return st, nil
-	}
-	return st, []analysis.Analysis{pageAnalysis("drivers", "adjust", c.fitSet)}
+	return pageState("drivers", c.form(), shownPanel{"adjust", c.fitSet, "fitted"})
 }
 
 // brief adds the adjusted series and the coefficients to the briefing.

@@ -142,16 +142,7 @@ func (c *ResponseView) form() formState {
 // PageState is the form and the analyses of the run and the fit shown.
 func (c *ResponseView) PageState() (map[string]string, []analysis.Analysis) {
 	c.setup()
-	st := c.form().save()
-	var list []analysis.Analysis
-	if c.runSet != nil {
-		list = append(list, pageAnalysis("response", "respond", c.runSet))
-	}
-	st["fitted"] = strconv.FormatBool(c.fitSet != nil)
-	if c.fitSet != nil {
-		list = append(list, pageAnalysis("response", "fit", c.fitSet))
-	}
-	return st, list
+	return pageState("response", c.form(), shownPanel{"respond", c.runSet, ""}, shownPanel{"fit", c.fitSet, "fitted"})
 }
 
 // brief adds the run's attribution or the fit to the briefing.

@@ -365,6 +365,33 @@ func (s formState) load(m map[string]string) {
 	}
 }
 
+// shownPanel is one panel of a view for PageState: its name (its
+// analysis is VIEW-NAME), its settings as last computed (a nil pointer
+// when the panel shows nothing) and the form key, if any, that records
+// whether it was shown (so a restored view computes it again).
+type shownPanel struct {
+	name     string
+	settings any
+	flag     string
+}
+
+// pageState is a view's PageState: its form and the analyses of the
+// panels shown.
+func pageState(view string, form formState, panels ...shownPanel) (map[string]string, []analysis.Analysis) {
+	st := form.save()
+	var list []analysis.Analysis
+	for _, p := range panels {
+		on := p.settings != nil && !reflect.ValueOf(p.settings).IsNil()
+		if p.flag != "" {
+			st[p.flag] = strconv.FormatBool(on)
+		}
+		if on {
+			list = append(list, pageAnalysis(view, p.name, p.settings))
+		}
+	}
+	return st, list
+}
+
 // pageAnalysis makes the analysis a view's panel shows, named VIEW-NAME.
 func pageAnalysis(view, name string, settings any) analysis.Analysis {
 	a, err := analysis.NewAnalysis(view+"-"+name, settings)

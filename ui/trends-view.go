@@ -110,27 +110,8 @@ func (c *TrendsView) form() formState {
 // PageState is the form and the analyses of the panels shown.
 func (c *TrendsView) PageState() (map[string]string, []analysis.Analysis) {
 	c.setup()
-	st := c.form().save()
-	var list []analysis.Analysis
-	if c.mainSet != nil {
-		list = append(list, pageAnalysis("trends", "trend", c.mainSet))
-	}
-	for name, on := range map[string]bool{"compare": c.cmpSet != nil, "grid": c.gridSet != nil, "breaks": c.brkSet != nil, "sen": c.senSet != nil} {
-		st["shown_"+name] = strconv.FormatBool(on)
-	}
-	if c.cmpSet != nil {
-		list = append(list, pageAnalysis("trends", "compare", c.cmpSet))
-	}
-	if c.gridSet != nil {
-		list = append(list, pageAnalysis("trends", "grid", c.gridSet))
-	}
-	if c.brkSet != nil {
-		list = append(list, pageAnalysis("trends", "breaks", c.brkSet))
-	}
-	if c.senSet != nil {
-		list = append(list, pageAnalysis("trends", "sen", c.senSet))
-	}
-	return st, list
+	return pageState("trends", c.form(), shownPanel{"trend", c.mainSet, ""}, shownPanel{"compare", c.cmpSet, "shown_compare"},
+		shownPanel{"grid", c.gridSet, "shown_grid"}, shownPanel{"breaks", c.brkSet, "shown_breaks"}, shownPanel{"sen", c.senSet, "shown_sen"})
 }
 
 // restore applies a loaded form and recomputes the panels that were shown
