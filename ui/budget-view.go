@@ -97,13 +97,10 @@ func (c *BudgetView) PageState() (map[string]string, []analysis.Analysis) {
 // brief adds the heating rate or the sensitivity to the briefing.
 func (c *BudgetView) brief(panel string) {
 	c.WS.Do("adding to the brief", func() {
-		switch {
-		case panel == "heat" && c.heatSet != nil:
+		if panel == "heat" {
 			c.note = c.WS.AddToBrief(c.heatSet, "rate", "table")
-		case panel == "sensitivity" && c.runSet != nil:
+		} else {
 			c.note = c.WS.AddToBrief(c.runSet, "ecs", "table")
-		default:
-			c.note = "Nothing to add yet."
 		}
 	})
 }

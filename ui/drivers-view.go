@@ -79,13 +79,7 @@ func (c *DriversView) PageState() (map[string]string, []analysis.Analysis) {
 
 // brief adds the adjusted series and the coefficients to the briefing.
 func (c *DriversView) brief() {
-	c.WS.Do("adding to the brief", func() {
-		if c.fitSet == nil {
-			c.note = "Nothing to add yet: fit first."
-			return
-		}
-		c.note = c.WS.AddToBrief(c.fitSet, "adjusted", "coefficients")
-	})
+	c.WS.Do("adding to the brief", func() { c.note = c.WS.AddToBrief(c.fitSet, "adjusted", "coefficients") })
 }
 
 func (c *DriversView) setup() {

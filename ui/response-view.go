@@ -149,13 +149,10 @@ func (c *ResponseView) PageState() (map[string]string, []analysis.Analysis) {
 func (c *ResponseView) brief(panel string) {
 	c.WS.Do("adding to the brief", func() {
 		c.noteAt = panel
-		switch {
-		case panel == "run" && c.runSet != nil:
+		if panel == "run" {
 			c.note = c.WS.AddToBrief(c.runSet, "run", "attribution")
-		case panel == "fit" && c.fitSet != nil:
+		} else {
 			c.note = c.WS.AddToBrief(c.fitSet, "fit", "estimates")
-		default:
-			c.note = "Nothing to add yet."
 		}
 	})
 }

@@ -33,8 +33,12 @@ type BriefState struct {
 
 // AddToBrief adds parts of an analysis with the given settings to the
 // briefing. The settings are kept as they are now, so later changes in the
-// view do not change the item. It returns the note to show.
+// view do not change the item. It returns the note to show (settings that
+// are a nil pointer, a panel not computed, add nothing).
 func (w *Workspace) AddToBrief(settings any, parts ...string) string {
+	if settings == nil || reflect.ValueOf(settings).Kind() == reflect.Pointer && reflect.ValueOf(settings).IsNil() {
+		return "Nothing to add yet: compute this panel first."
+	}
 	b := &w.Brief
 	kind := analysis.KindOf(settings)
 	id := ""

@@ -143,19 +143,17 @@ func (c *TrendsView) restore(st map[string]string) {
 // brief adds a panel's figure or table to the briefing.
 func (c *TrendsView) brief(panel string) {
 	c.WS.Do("adding to the brief", func() {
-		switch {
-		case panel == "main" && c.mainSet != nil:
+		switch panel {
+		case "main":
 			c.note = c.WS.AddToBrief(c.mainSet, "figure")
-		case panel == "compare" && c.cmpSet != nil:
+		case "compare":
 			c.note = c.WS.AddToBrief(c.cmpSet, "figure", "table")
-		case panel == "grid" && c.gridSet != nil:
+		case "grid":
 			c.note = c.WS.AddToBrief(c.gridSet, "figure")
-		case panel == "breaks" && c.brkSet != nil:
+		case "breaks":
 			c.note = c.WS.AddToBrief(c.brkSet, "figure", "table")
-		case panel == "sen" && c.senSet != nil:
+		case "sen":
 			c.note = c.WS.AddToBrief(c.senSet, "table")
-		default:
-			c.note = "Nothing to add yet: compute this panel first."
 		}
 	})
 }
