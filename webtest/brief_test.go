@@ -5,6 +5,7 @@ package webtest
 import (
 	"archive/zip"
 	"bytes"
+	"context"
 	"io"
 	"os"
 	"os/exec"
@@ -13,6 +14,7 @@ import (
 	"strings"
 	"testing"
 
+	"github.com/chromedp/cdproto/emulation"
 	"github.com/chromedp/chromedp"
 
 	"heatledger/core/analysis"
@@ -96,6 +98,20 @@ func TestBriefWholeSession(t *testing.T) {
 	if n := eval[int](p, `document.querySelectorAll("#hl-brief-text h1 b").length`); n != 0 {
 		t.Error("the title became markup")
 	}
+
+	// the print stylesheet keeps the brief and drops the page's controls
+	p.brMedia("print")
+	shown := eval[map[string]string](p, `(() => { const d = s => { const e = document.querySelector(s); return e ? getComputedStyle(e).display : "absent"; };
+		return {header: d(".hl-top"), tools: d(".hl-brief-tools"), exports: d("#hl-brief-html"), list: d("#hl-brief-list"), text: d("#hl-brief-text"), figure: d("#hl-brief-text figure")}; })()`)
+	for _, k := range []string{"header", "tools", "exports", "list"} {
+		if shown[k] != "none" {
+			t.Errorf("printing shows the %s (display %q)", k, shown[k])
+		}
+	}
+	if shown["text"] == "none" || shown["figure"] == "none" {
+		t.Errorf("printing hides the brief: %v", shown)
+	}
+	p.brMedia("")
 
 	// exports
 	p.click("#hl-brief-html")
@@ -200,6 +216,15 @@ func TestBriefWholeSession(t *testing.T) {
 	if slicesContain(p.fileNames(), "station.csv") {
 		t.Error("start fresh kept station.csv")
 	}
+	// and what the browser keeps is the fresh start too
+	fresh := eval[string](p, `document.body.dataset.saved || ""`)
+	p.waitFor("the autosave of the fresh start", `(document.body.dataset.saved || "") !== `+js(fresh))
+	p.do(chromedp.Reload())
+	p.waitReady()
+	if slicesContain(p.fileNames(), "station.csv") {
+		t.Error("after start fresh and a reload, station.csv is back")
+	}
+	p.brOpenBrief(0)
 
 	// the saved file opens again from the Brief view
 	p.click("#hl-view-brief")
@@ -226,6 +251,17 @@ func TestBriefDamagedAnalysisFile(t *testing.T) {
 		t.Errorf("the demo was dropped: files %v", p.fileNames())
 	}
 	p.trNoBanner()
+}
+
+// brMedia emulates a CSS media type ("print", or "" for the screen).
+func (p *tab) brMedia(media string) {
+	p.t.Helper()
+	if _, err := chromedp.Run(p.ctx, chromedp.Func(func(ctx context.Context, _ *chromedp.Target) error {
+		_, err := chromedp.Call(ctx, emulation.SetEmulatedMedia, emulation.SetEmulatedMediaParams{Media: media})
+		return err
+	})); err != nil {
+		p.t.Fatalf("emulating media %q: %v", media, err)
+	}
 }
 
 func slicesContain(list []string, s string) bool {
