@@ -25,6 +25,9 @@ type BriefView struct {
 	note    string
 	confirm bool // "start fresh" asked once, waiting for the second click
 	cache   map[string]briefRun
+	// building is the signature of the brief being written in the
+	// background ("" when none); progress says how far it is.
+	building, progress string
 }
 
 // Printer is a Host that can open the browser's print dialog.
@@ -72,14 +75,10 @@ func (c *BriefView) current() *brief.Brief {
 		B *analysis.BriefSpec
 	}{f.Analyses, f.Brief})
 	sig := string(raw) + data.String()
-	if sig == c.sig && c.b != nil {
-		return c.b
+	if sig == c.sig && c.b != nil || sig == c.building {
+		return c.b // up to date, or being written (the old text shows meanwhile)
 	}
-	c.sig, c.err = sig, ""
 	w, werr := f.Workspace()
-	if werr != nil {
-		c.err = werr.Error()
-	}
 	keys := map[string]string{}
 	shown := map[string]*analysis.Shown{}
 	for _, a := range f.Analyses {
@@ -89,12 +88,44 @@ func (c *BriefView) current() *brief.Brief {
 			shown[a.ID] = old.sh
 		}
 	}
-	c.b = brief.Build(f, w, brief.Options{Shown: shown})
-	c.cache = map[string]briefRun{}
-	for id, sh := range shown {
-		c.cache[id] = briefRun{key: keys[id], sh: sh}
+	done := func(b *brief.Brief) {
+		c.b, c.sig, c.building, c.err = b, sig, "", ""
+		if werr != nil {
+			c.err = werr.Error()
+		}
+		c.cache = map[string]briefRun{}
+		for id, sh := range shown {
+			c.cache[id] = briefRun{key: keys[id], sh: sh}
+		}
 	}
+	env := c.WS.Env
+	if env == nil || len(shown) == len(f.Analyses) {
+		// nothing to run (or no page to hand back to): write it now
+		done(brief.Build(f, w, brief.Options{Shown: shown}))
+		return c.b
+	}
+	// analyses to run: in the background, with progress, so the page stays
+	// responsive (a change-point item takes seconds)
+	c.building, c.progress = sig, "Running the analyses of the brief…"
+	go func() {
+		c.WS.Yield()
+		progress := c.WS.Progress(env, func(d, t int) { c.progress = fmt.Sprintf("Running the analyses of the brief: %d of %d steps…", d, t) })
+		b := brief.Build(f, w, brief.Options{Shown: shown, Progress: func(_ string, d, t int) { progress(d, t) }})
+		env.Lock()
+		defer env.UnlockRender()
+		if c.building == sig {
+			done(b)
+		}
+	}()
 	return c.b
+}
+
+// progressText says what the brief is waiting for ("" when nothing).
+func (c *BriefView) progressText() string {
+	if c.building == "" {
+		return ""
+	}
+	return c.progress
 }
 
 // briefRun is an analysis run for the brief, with the settings and data it
@@ -161,6 +192,10 @@ func (c *BriefView) stem() string {
 func (c *BriefView) download(what string) {
 	c.WS.Do("exporting the brief", func() {
 		b := c.current()
+		if c.building != "" {
+			c.note = "The brief is still being written: export it in a moment."
+			return
+		}
 		if b == nil || len(b.Items) == 0 {
 			c.note = "Nothing to export yet: add figures or tables from the other views."
 			return

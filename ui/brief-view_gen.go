@@ -339,6 +339,13 @@ func (c *BriefView) Build(vgin *vugu.BuildIn) (vgout *vugu.BuildOut) {
 			}
 			vgn = &vugu.VGNode{Type: vugu.VGNodeType(1), Data: "\n\t\t"}
 			vgparent.AppendChild(vgn)
+			if c.progressText() != "" {
+				vgn = &vugu.VGNode{Type: vugu.VGNodeType(3), Namespace: "", Data: "p", Attr: []vugu.VGAttribute{{Namespace: "", Key: "class", Val: "hl-small hl-note"}, vugu.VGAttribute{Namespace: "", Key: "id", Val: "hl-brief-progress"}, vugu.VGAttribute{Namespace: "", Key: "role", Val: "status"}}}
+				vgparent.AppendChild(vgn)
+				vgn.SetInnerHTML(c.progressText())
+			}
+			vgn = &vugu.VGNode{Type: vugu.VGNodeType(1), Data: "\n\t\t"}
+			vgparent.AppendChild(vgn)
 			if c.err != "" {
 				vgn = &vugu.VGNode{Type: vugu.VGNodeType(3), Namespace: "", Data: "p", Attr: []vugu.VGAttribute{{Namespace: "", Key: "class", Val: "hl-error-text"}, vugu.VGAttribute{Namespace: "", Key: "role", Val: "alert"}}}
 				vgparent.AppendChild(vgn)
