@@ -412,6 +412,9 @@ func (t *texts) methods(a analysis.Analysis, v any) string {
 			m += " starting from the parameter set " + s.Model.Preset
 		}
 		p := head + t.forcingText(s.Forcing) + " This forcing drove " + m + ", stepped with its exact exponential solution."
+		if rv, ok := v.(*analysis.ResponseView); ok {
+			p += modelText(rv.Response)
+		}
 		if s.Fit != nil {
 			free := "the default free parameters"
 			if len(s.Fit.Free) > 0 {
@@ -491,15 +494,15 @@ func (t *texts) forcingText(s analysis.ForcingSettings) string {
 	var cs []string
 	ghg, volc, solar := false, false, false
 	for _, c := range s.Components {
-		x := t.name(c.Series) + " as " + c.Kind
-		if c.Scale != nil {
+		x := t.name(c.Series) + " (" + kindText(c.Kind) + ")"
+		if c.Scale != nil && *c.Scale != 1 {
 			x += " scaled by " + sig(*c.Scale, 4)
 		}
-		if c.Efficacy != nil {
+		if c.Efficacy != nil && *c.Efficacy != 1 {
 			x += " with efficacy " + sig(*c.Efficacy, 3)
 		}
 		cs = append(cs, x)
-		switch c.Kind {
+		switch strings.ToLower(c.Kind) {
 		case "co2", "ch4", "n2o":
 			ghg = true
 		case "aod":
@@ -531,6 +534,49 @@ func (t *texts) forcingText(s analysis.ForcingSettings) string {
 		p += " Solar forcing is the irradiance change times (1 - albedo)/4 with albedo " + sig(a, 3) + "."
 	}
 	return p
+}
+
+// kindText says what a forcing component's series holds.
+func kindText(kind string) string {
+	switch strings.ToLower(strings.TrimSpace(kind)) {
+	case "co2":
+		return "CO2 concentration"
+	case "ch4":
+		return "CH4 concentration"
+	case "n2o":
+		return "N2O concentration"
+	case "aod":
+		return "stratospheric aerosol optical depth"
+	case "tsi":
+		return "total solar irradiance"
+	case "erf":
+		return "a forcing in W m-2"
+	}
+	return kind
+}
+
+// modelText states a model run's parameters and spin-up.
+func modelText(r *analysis.Response) string {
+	if r == nil {
+		return ""
+	}
+	p := r.Params
+	out := fmt.Sprintf(" Its parameters: feedback parameter %s W m-2 K-1, upper-layer heat capacity %s W yr m-2 K-1", sig(p.LambdaWPerM2K, 3), sig(p.CWYrPerM2K, 3))
+	if !strings.EqualFold(r.Model, "onebox") {
+		out += fmt.Sprintf(", deep-ocean heat exchange %s W m-2 K-1, deep-ocean heat capacity %s W yr m-2 K-1, efficacy of ocean heat uptake %s", sig(p.GammaWPerM2K, 3), sig(p.C0WYrPerM2K, 3), sig(p.Efficacy, 3))
+	}
+	out += fmt.Sprintf(", forcing of doubled CO2 %s W m-2.", sig(p.F2xWPerM2, 3))
+	if r.Run != nil && r.Run.SpinupYears > 0 {
+		out += fmt.Sprintf(" It was spun up over %s years from %s.", sig(r.Run.SpinupYears, 4), sig(r.Run.SpinupFromYear, 5))
+	}
+	return out
+}
+
+func modelName(m string) string {
+	if strings.EqualFold(m, "onebox") {
+		return "one-box"
+	}
+	return "two-layer"
 }
 
 // results writes the results paragraph of an analysis.
@@ -616,11 +662,12 @@ func (t *texts) results(a analysis.Analysis, v any) string {
 				p += fmt.Sprintf(" (ECS %s interval %s to %s K)", pct(out.Fit.Level), num(*out.Fit.ECS.Low, 2), num(*out.Fit.ECS.High, 2))
 			}
 			p += fmt.Sprintf("; R² %s, RMSE %s K.", num(out.Fit.R2, 3), sig(out.Fit.RMSE, 3))
+			p += strings.Replace(modelText(r), " Its parameters:", " The fitted run's parameters (fitted and fixed):", 1)
 		}
 		return p
 	case *analysis.ResponseView:
 		r := x.Response
-		p := head + fmt.Sprintf("the %s model has ECS %s K and TCR %s K (from its parameters).", r.Model, num(r.Derived.ECSK, 2), num(r.Derived.TCRK, 2))
+		p := head + fmt.Sprintf("the %s model has ECS %s K and TCR %s K (from its parameters).", modelName(r.Model), num(r.Derived.ECSK, 2), num(r.Derived.TCRK, 2))
 		for _, at := range r.Attribution {
 			var cs []string
 			for _, c := range at.Components {
