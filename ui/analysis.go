@@ -4,6 +4,7 @@ import (
 	"encoding/json"
 	"fmt"
 	"github.com/vugu/vugu"
+	"slices"
 	"strings"
 	"time"
 
@@ -22,7 +23,7 @@ type SeriesRef struct {
 // Analysis is the workspace as core/analysis sees it: the files read, with
 // their series. The analysis views go through it and nothing else.
 func (w *Workspace) Analysis() *analysis.Workspace {
-	aw := &analysis.Workspace{}
+	aw := &analysis.Workspace{Roles: w.Roles}
 	for _, f := range w.Files {
 		aw.Files = append(aw.Files, analysis.Loaded{File: f.Name, Result: f.Result, Err: f.Err})
 	}
@@ -164,3 +165,22 @@ func jsonBytes(v any) []byte {
 	}
 	return append(b, '\n')
 }
+
+// SetRole gives a series (FILE:NAME) a role, or takes it away ("").
+func (w *Workspace) SetRole(ref, role string) {
+	if role != "" && !slices.Contains(analysis.Roles, role) {
+		panic(fmt.Errorf("role %q: expected one of %s", role, strings.Join(analysis.Roles, ", ")))
+	}
+	if w.Roles == nil {
+		w.Roles = map[string]string{}
+	}
+	if role == "" {
+		delete(w.Roles, ref)
+		return
+	}
+	w.Roles[ref] = role
+}
+
+// roleOptions are the choices of a series' role in the Data view.
+var roleOptions = []Option{{"", "–"}, {analysis.RoleTarget, "record to explain"}, {analysis.RoleDriver, "short-term factor"},
+	{analysis.RoleForcing, "forcing"}, {analysis.RoleHeat, "heat content"}}

@@ -157,6 +157,12 @@ func (c *DataView) onToggle(key string) {
 	c.WS.Do("changing the drawn series", func() { c.WS.Toggle(key) })
 }
 
+func (c *DataView) onRole(ref string, ev vugu.DOMEvent) {
+	c.WS.Do("giving a series its role", func() { c.WS.SetRole(ref, ev.PropString("target", "value")) })
+}
+
+func (c *DataView) roles() []Option { return roleOptions }
+
 func (c *DataView) onPreview(id int) {
 	c.WS.Do("showing a file's rows", func() { c.WS.PreviewID = id })
 }

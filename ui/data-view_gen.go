@@ -388,7 +388,7 @@ func (c *DataView) Build(vgin *vugu.BuildIn) (vgout *vugu.BuildOut) {
 								vgparent.AppendChild(vgn)
 								vgn = &vugu.VGNode{Type: vugu.VGNodeType(3), Namespace: "", Data: "thead", Attr: []vugu.VGAttribute(nil)}
 								vgparent.AppendChild(vgn)
-								vgn.SetInnerHTML(vugu.HTML("\n\t\t\t\t\t\x3Ctr\x3E\x3Cth\x3EDraw\x3C/th\x3E\x3Cth\x3ESeries\x3C/th\x3E\x3Cth\x3EUnit\x3C/th\x3E\x3Cth\x3ESteps\x3C/th\x3E\x3Cth\x3ESpan\x3C/th\x3E\x3Cth class=\"hl-num\"\x3ECount\x3C/th\x3E\x3Cth class=\"hl-num\"\x3EMissing\x3C/th\x3E\x3C/tr\x3E\n\t\t\t\t"))
+								vgn.SetInnerHTML(vugu.HTML("\n\t\t\t\t\t\x3Ctr\x3E\x3Cth\x3EDraw\x3C/th\x3E\x3Cth\x3ESeries\x3C/th\x3E\x3Cth\x3EUnit\x3C/th\x3E\x3Cth\x3ESteps\x3C/th\x3E\x3Cth\x3ESpan\x3C/th\x3E\x3Cth class=\"hl-num\"\x3ECount\x3C/th\x3E\x3Cth class=\"hl-num\"\x3EMissing\x3C/th\x3E\x3Cth\x3ERole\x3C/th\x3E\x3C/tr\x3E\n\t\t\t\t"))
 								vgn = &vugu.VGNode{Type: vugu.VGNodeType(1), Data: "\n\t\t\t\t"}
 								vgparent.AppendChild(vgn)
 								vgn = &vugu.VGNode{Type: vugu.VGNodeType(3), Namespace: "", Data: "tbody", Attr: []vugu.VGAttribute(nil)}
@@ -478,6 +478,47 @@ func (c *DataView) Build(vgin *vugu.BuildIn) (vgout *vugu.BuildOut) {
 											vgn = &vugu.VGNode{Type: vugu.VGNodeType(3), Namespace: "", Data: "td", Attr: []vugu.VGAttribute{{Namespace: "", Key: "class", Val: "hl-num"}}}
 											vgparent.AppendChild(vgn)
 											vgn.SetInnerHTML(r.Missing)
+											vgn = &vugu.VGNode{Type: vugu.VGNodeType(1), Data: "\n\t\t\t\t\t\t"}
+											vgparent.AppendChild(vgn)
+											vgn = &vugu.VGNode{Type: vugu.VGNodeType(3), Namespace: "", Data: "td", Attr: []vugu.VGAttribute(nil)}
+											vgparent.AppendChild(vgn)
+											{
+												vgparent := vgn
+												_ = vgparent
+												vgn = &vugu.VGNode{Type: vugu.VGNodeType(3), Namespace: "", Data: "select", Attr: []vugu.VGAttribute{{Namespace: "", Key: "class", Val: "hl-role"}}}
+												vgparent.AppendChild(vgn)
+												vgn.AddAttrInterface("aria-label", "Role of "+r.Name)
+												vgn.DOMEventHandlerSpecList = append(vgn.DOMEventHandlerSpecList, vugu.DOMEventHandlerSpec{
+													EventType: "change",
+													Func:      func(event vugu.DOMEvent) { c.onRole(r.Ref, event) },
+													// TODO: implement capture, etc. mostly need to decide syntax
+												})
+												{
+													vgparent := vgn
+													_ = vgparent
+													vgn = &vugu.VGNode{Type: vugu.VGNodeType(1), Data: "\n\t\t\t\t\t\t\t"}
+													vgparent.AppendChild(vgn)
+													for vgiterkeyt, o := range c.roles() {
+														var vgiterkey interface{} = vgiterkeyt
+														_ = vgiterkey
+														o := o
+														_ = o
+														vgn = &vugu.VGNode{Type: vugu.VGNodeType(3), Namespace: "", Data: "option", Attr: []vugu.VGAttribute(nil)}
+														vgparent.AppendChild(vgn)
+														vgn.AddAttrInterface("value", o.Value)
+														{
+															b, err := vjson.Marshal(o.Value == r.Role)
+															if err != nil {
+																panic(err)
+															}
+															vgn.Prop = append(vgn.Prop, vugu.VGProperty{Key: "selected", JSONVal: vjson.RawMessage(b)})
+														}
+														vgn.SetInnerHTML(o.Label)
+													}
+													vgn = &vugu.VGNode{Type: vugu.VGNodeType(1), Data: "\n\t\t\t\t\t\t"}
+													vgparent.AppendChild(vgn)
+												}
+											}
 											vgn = &vugu.VGNode{Type: vugu.VGNodeType(1), Data: "\n\t\t\t\t\t"}
 											vgparent.AppendChild(vgn)
 										}

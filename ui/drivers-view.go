@@ -106,7 +106,13 @@ func (c *DriversView) setup() {
 	}
 	c.target = c.defaultTarget()
 	c.targetDefaults()
-	if c.WS.HasDemo() {
+	if given := c.WS.Analysis().WithRole(analysis.RoleDriver); len(given) > 0 {
+		for _, r := range given {
+			if r != c.target {
+				c.pick(r).On = true
+			}
+		}
+	} else if c.WS.HasDemo() {
 		for _, r := range c.WS.SeriesRefs() {
 			for _, n := range demoDrivers {
 				if r.Name == n && r.Ref != c.target {
@@ -120,9 +126,12 @@ func (c *DriversView) setup() {
 	}
 }
 
-// defaultTarget is the demo's surface_anomaly when present, else the first
-// series.
+// defaultTarget is the first series given the target role, else the
+// demo's surface_anomaly when present, else the first series.
 func (c *DriversView) defaultTarget() string {
+	if given := c.WS.Analysis().WithRole(analysis.RoleTarget); len(given) > 0 {
+		return given[0]
+	}
 	refs := c.WS.SeriesRefs()
 	for _, r := range refs {
 		if r.Name == "surface_anomaly" {

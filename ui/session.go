@@ -171,6 +171,19 @@ func (w *Workspace) AnalysisFile() (*analysis.AnalysisFile, error) {
 		}
 		f.Files = append(f.Files, analysis.DataFile{Name: fl.Name, Text: string(fl.Data), Reading: r})
 	}
+	for _, fl := range w.Files {
+		if fl.Result == nil {
+			continue
+		}
+		for _, sr := range fl.Result.Series {
+			if r := w.Roles[fl.Name+":"+sr.Name]; r != "" {
+				if f.Roles == nil {
+					f.Roles = map[string]string{}
+				}
+				f.Roles[fl.Name+":"+sr.Name] = r
+			}
+		}
+	}
 	f.Page = map[string]map[string]string{}
 	seen := map[string]bool{}
 	add := func(a analysis.Analysis) {
@@ -253,6 +266,14 @@ func (w *Workspace) LoadAnalysisFile(f *analysis.AnalysisFile) {
 			nf = w.addWith(d.Name, []byte(d.Text), form, opt)
 		}
 		nf.Demo = demo[d.Name] == d.Text
+	}
+	// roles by FILE:NAME, whatever form the file gave them in
+	w.Roles = map[string]string{}
+	aw := w.Analysis()
+	for k, r := range f.Roles {
+		if sr, err := aw.Find(k); err == nil {
+			w.Roles[sr.Source+":"+sr.Name] = r
+		}
 	}
 	w.Brief = BriefState{}
 	if f.Brief != nil {

@@ -16,6 +16,7 @@ func TestSessionRoundTrip(t *testing.T) {
 	ws.Add("station.csv", []byte("year,station_mean (K)\n2000,0.1\n2001,0.2\n2002,0.15\n2003,0.3\n2004,0.28\n"))
 	_, _, _ = buildPage(t, ws) // the Data view
 
+	ws.SetRole("station.csv:station_mean", analysis.RoleTarget)
 	tv := &TrendsView{WS: ws}
 	ws.RegisterView("trends", tv)
 	tv.setup()
@@ -41,6 +42,12 @@ func TestSessionRoundTrip(t *testing.T) {
 	if err != nil {
 		t.Fatalf("the saved file does not parse: %v", err)
 	}
+	if f.Roles["station.csv:station_mean"] != analysis.RoleTarget || len(f.Roles) != 1 {
+		t.Errorf("saved roles %v", f.Roles)
+	}
+	if !tv.picked["station.csv:station_mean"] {
+		t.Errorf("the trends view did not start from the series given the target role: %v", tv.picked)
+	}
 	if len(f.Files) != 4 || f.Brief == nil || len(f.Brief.Items) != 4 || f.Brief.Title != "Round trip" {
 		t.Fatalf("saved %d files, brief %+v", len(f.Files), f.Brief)
 	}
@@ -52,6 +59,9 @@ func TestSessionRoundTrip(t *testing.T) {
 	w2 := NewWorkspace(nil)
 	if err := w2.OpenAnalysis("saved"+analysis.AnalysisExt, data); err != nil {
 		t.Fatal(err)
+	}
+	if w2.Roles["station.csv:station_mean"] != analysis.RoleTarget {
+		t.Errorf("opened roles %v", w2.Roles)
 	}
 	if len(w2.Files) != 4 || len(w2.Brief.Items) != 4 || w2.Brief.Title != "Round trip" {
 		t.Fatalf("opened: %d files, %d items, title %q", len(w2.Files), len(w2.Brief.Items), w2.Brief.Title)

@@ -172,10 +172,15 @@ func (c *TrendsView) setup() {
 		c.restore(st)
 		return
 	}
-	refs := c.WS.SeriesRefs()
-	if len(refs) > 0 {
-		c.picked[refs[0].Ref] = true
-		if s, err := c.WS.Analysis().Find(refs[0].Ref); err == nil {
+	first := ""
+	if given := c.WS.Analysis().WithRole(analysis.RoleTarget); len(given) > 0 {
+		first = given[0] // the record the user marked to explain
+	} else if refs := c.WS.SeriesRefs(); len(refs) > 0 {
+		first = refs[0].Ref
+	}
+	if first != "" {
+		c.picked[first] = true
+		if s, err := c.WS.Analysis().Find(first); err == nil {
 			c.aFrom, c.aTo, c.bFrom, c.bTo = halves(s)
 		}
 	}

@@ -98,7 +98,9 @@ type Row struct {
 	Count      int
 	Missing    int
 	Selected   bool
-	Slot       int // palette slot when selected
+	Slot       int    // palette slot when selected
+	Ref        string // FILE:NAME, as the analysis views name it
+	Role       string // the role given in the Data view ("" for none)
 }
 
 // SwatchClass is the CSS class of the colour mark beside a drawn series.
@@ -135,6 +137,10 @@ type Workspace struct {
 
 	// Brief is the briefing being built (the Brief view).
 	Brief BriefState
+	// Roles are the roles given to series in the Data view, by reference
+	// FILE:NAME (analysis.RoleTarget, RoleDriver, RoleForcing, RoleHeat).
+	Roles map[string]string
+
 	// Env is the page's event environment (set by the browser main), so
 	// work restored from a saved file can run in the background as after
 	// a click; nil in native tests.
@@ -385,6 +391,7 @@ func (w *Workspace) Remove(id int) {
 // Clear removes every file, the demo included.
 func (w *Workspace) Clear() {
 	w.Files = nil
+	w.Roles = nil
 	w.sel = map[string]int{}
 	w.PreviewID = 0
 	w.chartValid = false
@@ -441,6 +448,8 @@ func (w *Workspace) Rows(f *File) []Row {
 			Missing:    s.Missing(),
 			Selected:   sel,
 			Slot:       slot % seriesColours,
+			Ref:        f.Name + ":" + s.Name,
+			Role:       w.Roles[f.Name+":"+s.Name],
 		})
 	}
 	return rows

@@ -308,3 +308,33 @@ func brUnzip(t *testing.T, b []byte) (string, map[string]string) {
 	}
 	return md, figs
 }
+
+// TestRolesInDataView gives an uploaded series the target role in the Data
+// view: the Trends and Drivers views then start from it, and the saved
+// analysis file holds the role.
+func TestRolesInDataView(t *testing.T) {
+	p := openPage(t)
+	p.upload(map[string]string{"station.csv": brDemoRecord})
+	row := `tr[data-series="station_mean"] select.hl-role`
+	p.waitFor("the uploaded series", `!!document.querySelector(`+js(row)+`)`)
+	if lab := eval[string](p, `document.querySelector(`+js(row)+`).getAttribute("aria-label")`); lab != "Role of station_mean" {
+		t.Errorf("the role control is labelled %q", lab)
+	}
+	p.trSet(row, analysis.RoleTarget)
+	p.click("#hl-view-trends")
+	p.waitFor("the trend table", `document.querySelectorAll("#hl-tr-table tbody tr").length > 0`)
+	picked := eval[[]string](p, `Array.from(document.querySelectorAll("input[data-ref]")).filter(e => e.checked).map(e => e.dataset.ref)`)
+	if len(picked) != 1 || picked[0] != "station.csv:station_mean" {
+		t.Errorf("the Trends view starts from %v, want the series given the target role", picked)
+	}
+	p.click("#hl-view-drivers")
+	p.waitFor("the drivers view", `!!document.getElementById("hl-dr-target")`)
+	if v := p.trValue("#hl-dr-target"); v != "station.csv:station_mean" {
+		t.Errorf("the Drivers view's target is %q", v)
+	}
+	p.click("#hl-view-data")
+	p.waitFor("the data view", `!!document.querySelector(`+js(row)+`)`)
+	if v := p.trValue(row); v != analysis.RoleTarget {
+		t.Errorf("after switching views the role shows %q", v)
+	}
+}

@@ -276,8 +276,12 @@ func (w *Workspace) pickSeries(name string, ok func(*series.Series) bool) string
 // heat-content record usually curves upward, and one straight line over
 // its whole span says little about the present rate.
 func (w *Workspace) DefaultHeatSettings() HeatSettings {
+	heat := w.firstWithRole(RoleHeat)
+	if heat == "" {
+		heat = w.pickSeries("ocean_heat", isHeatUnit)
+	}
 	hs := HeatSettings{
-		Series:    w.pickSeries("ocean_heat", isHeatUnit),
+		Series:    heat,
 		HeatInput: HeatInput{Area: "earth", Noise: "ar1", OceanFraction: budget.OceanFractionAR6},
 	}
 	if s, err := w.Find(hs.Series); err == nil && s.Len() > 0 {
@@ -289,8 +293,8 @@ func (w *Workspace) DefaultHeatSettings() HeatSettings {
 	return hs
 }
 
-// GuessForcing builds forcing settings from the loaded series whose names
-// and units say what they are: CO2 in ppm, CH4 and N2O in ppb, an aerosol
+// GuessForcing builds forcing settings from the series given the forcing
+// role, else from the loaded series whose names and units say what they are: CO2 in ppm, CH4 and N2O in ppb, an aerosol
 // optical depth (a name holding "aod"), the solar irradiance (a name
 // holding "tsi" or "irradiance", in W m-2) and forcings already in W m-2
 // (a name holding "erf" or "forcing"). It takes the file with the most
@@ -299,6 +303,18 @@ func (w *Workspace) DefaultHeatSettings() HeatSettings {
 // except through the small overlap term of CH4 and N2O.
 func (w *Workspace) GuessForcing() (ForcingSettings, bool) {
 	var best ForcingSettings
+	if given := w.WithRole(RoleForcing); len(given) > 0 {
+		// the series the user marked as forcing
+		for _, r := range given {
+			s, _ := w.Find(r)
+			k := forcingKind(s)
+			if k == "" {
+				k = "erf" // a forcing already in W m-2
+			}
+			best.Components = append(best.Components, ForcingComponent{Series: r, Name: s.Name, Kind: k})
+		}
+		return best, true
+	}
 	for _, l := range w.Files {
 		if l.Result == nil {
 			continue
@@ -1128,8 +1144,12 @@ func (w *Workspace) ImbalanceCandidates() []string {
 }
 
 // DefaultTemperature is the ref of the temperature series the view starts
-// from: surface_anomaly, else the first series in K or °C ("" if none).
+// from: the first series given the target role, else surface_anomaly,
+// else the first series in K or °C ("" if none).
 func (w *Workspace) DefaultTemperature() string {
+	if t := w.firstWithRole(RoleTarget); t != "" {
+		return t
+	}
 	return w.pickSeries("surface_anomaly", func(s *series.Series) bool { return isTemperatureUnit(s.Unit) })
 }
 

@@ -133,6 +133,19 @@ func (w *Workspace) ResponseDefaults() ResponseDefaults {
 			d.Components = cs
 		}
 	}
+	if given := w.WithRole(RoleForcing); len(given) > 0 {
+		// the series the user marked as forcing, the kind guessed from
+		// name and unit (a forcing in W m-2 otherwise)
+		d.Components = nil
+		for _, r := range given {
+			s, _ := w.Find(r)
+			k := ForcingKindGuess(s.Name, s.Unit)
+			if k == "" {
+				k = forcing.KindERF
+			}
+			d.Components = append(d.Components, ForcingComponent{Series: r, Name: s.Name, Kind: k})
+		}
+	}
 	inComps := map[string]bool{}
 	aer := 0
 	for _, c := range d.Components {
@@ -145,8 +158,9 @@ func (w *Workspace) ResponseDefaults() ResponseDefaults {
 	temp := func(s *series.Series) bool {
 		return respTemperatureUnit(s.Unit) && !respIndexName(s.Name) && !inComps[ref(s)]
 	}
+	d.Record = w.firstWithRole(RoleTarget)
 	for _, s := range all {
-		if s.Name == "surface_anomaly" && temp(s) {
+		if d.Record == "" && s.Name == "surface_anomaly" && temp(s) {
 			d.Record = ref(s)
 			break
 		}
@@ -161,17 +175,24 @@ func (w *Workspace) ResponseDefaults() ResponseDefaults {
 			d.Second = ref(s)
 		}
 	}
-	for _, s := range all {
-		if strings.EqualFold(strings.TrimSpace(s.Unit), "zj") && (d.Heat == "" || s.Name == "ocean_heat") {
-			d.Heat = ref(s)
-			if s.Name == "ocean_heat" {
-				break
+	d.Heat = w.firstWithRole(RoleHeat)
+	if d.Heat == "" {
+		for _, s := range all {
+			if strings.EqualFold(strings.TrimSpace(s.Unit), "zj") && (d.Heat == "" || s.Name == "ocean_heat") {
+				d.Heat = ref(s)
+				if s.Name == "ocean_heat" {
+					break
+				}
 			}
 		}
 	}
-	for _, s := range all {
-		if respIndexName(s.Name) && ref(s) != d.Record && !inComps[ref(s)] {
-			d.Drivers = append(d.Drivers, ref(s))
+	if given := w.WithRole(RoleDriver); len(given) > 0 {
+		d.Drivers = given
+	} else {
+		for _, s := range all {
+			if respIndexName(s.Name) && ref(s) != d.Record && !inComps[ref(s)] {
+				d.Drivers = append(d.Drivers, ref(s))
+			}
 		}
 	}
 	d.Free = []string{ebm.FreeLambda, ebm.FreeGamma}

@@ -12,6 +12,37 @@ import (
 // by name.
 type Workspace struct {
 	Files []Loaded
+	// Roles are the roles the user gave series (reference NAME or
+	// FILE:NAME -> RoleTarget, RoleDriver, RoleForcing or RoleHeat). The
+	// views' defaults prefer series with the role they need.
+	Roles map[string]string
+}
+
+// RoleOf is the role given to a series ("" for none).
+func (w *Workspace) RoleOf(s *series.Series) string {
+	if r := w.Roles[ref(s)]; r != "" {
+		return r
+	}
+	return w.Roles[s.Name]
+}
+
+// WithRole lists the references of the series given a role, in file order.
+func (w *Workspace) WithRole(role string) []string {
+	var out []string
+	for _, s := range w.All() {
+		if w.RoleOf(s) == role {
+			out = append(out, ref(s))
+		}
+	}
+	return out
+}
+
+// firstWithRole is the first series given a role ("" for none).
+func (w *Workspace) firstWithRole(role string) string {
+	if l := w.WithRole(role); len(l) > 0 {
+		return l[0]
+	}
+	return ""
 }
 
 // NewWorkspace reads the files into a workspace. Files that fail to read

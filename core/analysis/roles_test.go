@@ -1,0 +1,53 @@
+package analysis
+
+import (
+	"slices"
+	"testing"
+)
+
+// TestRolesSteerDefaults: series given roles are what the views start
+// from, ahead of the guesses from names and units.
+func TestRolesSteerDefaults(t *testing.T) {
+	f, _ := readDemo(t)
+	w, err := f.Workspace()
+	if err != nil {
+		t.Fatal(err)
+	}
+	// without roles: the guesses
+	if got := w.DefaultTemperature(); got != "tessary_surface.csv:surface_anomaly" {
+		t.Fatalf("default temperature %q", got)
+	}
+	w.Roles = map[string]string{
+		"second_record":                   RoleTarget, // by NAME
+		"tessary_forcing.csv:co2":         RoleForcing,
+		"tessary_forcing.csv:aerosol_erf": RoleForcing,
+		"ocean_index":                     RoleDriver,
+		"tessary_forcing.csv:tsi":         RoleDriver,
+	}
+	if got := w.DefaultTemperature(); got != "tessary_surface.csv:second_record" {
+		t.Errorf("default temperature %q, want the target second_record", got)
+	}
+	d := w.ResponseDefaults()
+	var comps []string
+	for _, c := range d.Components {
+		comps = append(comps, c.Series+"/"+c.Kind)
+	}
+	if !slices.Equal(comps, []string{"tessary_forcing.csv:aerosol_erf/erf", "tessary_forcing.csv:co2/co2"}) && !slices.Equal(comps, []string{"tessary_forcing.csv:co2/co2", "tessary_forcing.csv:aerosol_erf/erf"}) {
+		t.Errorf("forcing components %v, want the two given the forcing role", comps)
+	}
+	if d.Record != "tessary_surface.csv:second_record" {
+		t.Errorf("record %q", d.Record)
+	}
+	if !slices.Equal(d.Drivers, []string{"tessary_surface.csv:ocean_index", "tessary_forcing.csv:tsi"}) && !slices.Equal(d.Drivers, []string{"tessary_forcing.csv:tsi", "tessary_surface.csv:ocean_index"}) {
+		t.Errorf("drivers %v", d.Drivers)
+	}
+	fs, ok := w.GuessForcing()
+	if !ok || len(fs.Components) != 2 {
+		t.Errorf("GuessForcing with roles: %v %v", fs, ok)
+	}
+	// a heat role wins over the unit guess
+	w.Roles["tessary_forcing.csv:n2o"] = RoleHeat
+	if got := w.DefaultHeatSettings().Series; got != "tessary_forcing.csv:n2o" {
+		t.Errorf("heat series %q, want the one given the heat role", got)
+	}
+}
