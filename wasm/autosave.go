@@ -96,6 +96,9 @@ func autosave(env vugu.EventEnv, ws *ui.Workspace) {
 		}
 		saved = version
 		js.Global().Get("document").Get("body").Get("dataset").Set("saved", fmt.Sprint(saved))
+		// a large workspace is written less often: about a second more
+		// per 5 MB, so big files do not keep the page busy
+		time.Sleep(time.Duration(len(data)/(5<<20)) * time.Second)
 	}
 }
 

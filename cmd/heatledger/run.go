@@ -80,6 +80,9 @@ func runRun(args []string, stdout, stderr io.Writer) error {
 		if err := writeBrief(*out, f); err != nil {
 			return err
 		}
+		if f.Brief != nil && len(f.Brief.Items) > 0 && !*asJSON {
+			defer fmt.Fprintf(stdout, "\nbrief: %s and %s (%d items)\n", filepath.Join(*out, "brief.md"), filepath.Join(*out, "brief.html"), len(f.Brief.Items))
+		}
 	}
 	if *asJSON {
 		if _, err := stdout.Write(text); err != nil {

@@ -167,6 +167,31 @@ func TestRunOutDir(t *testing.T) {
 			t.Errorf("%s.json: %.200s", r.ID, one)
 		}
 	}
+	// the demo file holds a brief: brief.md with its figures, brief.html
+	md, err := os.ReadFile(filepath.Join(out, "brief.md"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	html, err := os.ReadFile(filepath.Join(out, "brief.html"))
+	if err != nil || !strings.HasPrefix(string(html), "<!DOCTYPE html>") {
+		t.Errorf("brief.html: %v", err)
+	}
+	if !strings.Contains(text, "brief: "+filepath.Join(out, "brief.md")) {
+		t.Errorf("the summary does not name the brief:\n%s", text)
+	}
+	links := 0
+	for _, line := range strings.Split(string(md), "\n") {
+		if i := strings.Index(line, "](figure-"); i >= 0 && strings.HasPrefix(line, "![") {
+			name := strings.TrimSuffix(line[i+2:], ")")
+			links++
+			if svg, err := os.ReadFile(filepath.Join(out, name)); err != nil || !strings.HasPrefix(string(svg), "<svg") {
+				t.Errorf("brief.md links %s: %v", name, err)
+			}
+		}
+	}
+	if links < 5 {
+		t.Errorf("brief.md links %d figures", links)
+	}
 }
 
 func TestRunDamagedAndUsage(t *testing.T) {
