@@ -99,8 +99,8 @@ func TestDemoListedAndDrawn(t *testing.T) {
 		t.Errorf("ticked %q but drawn %q", ticked, drawn)
 	}
 	// each series row shows span, count and missing
-	row := eval[[]string](p, `Array.from(document.querySelector("tr.hl-series").cells, c => c.textContent.trim())`)
-	if len(row) != 7 {
+	row := eval[[]string](p, `Array.from(document.querySelector("tr.hl-series").cells, c => { const s = c.querySelector("select"); return s ? "role:" + s.value : c.textContent.trim(); })`)
+	if len(row) != 8 || row[7] != "role:" {
 		t.Fatalf("series row has cells %q", row)
 	}
 	if !strings.Contains(row[4], "–") || row[5] == "" || row[6] == "" {
@@ -143,9 +143,9 @@ func TestUploadFile(t *testing.T) {
 	if got := p.seriesOf("lakes.csv"); !slices.Equal(got, []string{"lake_temp", "ice_days"}) {
 		t.Fatalf("lakes.csv lists %q", got)
 	}
-	row := eval[[]string](p, `Array.from(document.querySelector(`+js(fileSel("lakes.csv")+` tr.hl-series`)+`).cells, c => c.textContent.trim())`)
-	// Draw, Series, Unit, Steps, Span, Count, Missing
-	want := []string{"", "lake_temp", "degC", "monthly", "2001-01 – 2002-12", "24", "1"}
+	row := eval[[]string](p, `Array.from(document.querySelector(`+js(fileSel("lakes.csv")+` tr.hl-series`)+`).cells, c => { const s = c.querySelector("select"); return s ? "role:" + s.value : c.textContent.trim(); })`)
+	// Draw, Series, Unit, Steps, Span, Count, Missing, Role (none yet)
+	want := []string{"", "lake_temp", "degC", "monthly", "2001-01 – 2002-12", "24", "1", "role:"}
 	if !slices.Equal(row, want) {
 		t.Errorf("lake_temp row = %q, want %q", row, want)
 	}
