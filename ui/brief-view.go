@@ -110,12 +110,26 @@ func (c *BriefView) current() *brief.Brief {
 	go func() {
 		c.WS.Yield()
 		progress := c.WS.Progress(env, func(d, t int) { c.progress = fmt.Sprintf("Running the analyses of the brief: %d of %d steps…", d, t) })
-		b := brief.Build(f, w, brief.Options{Shown: shown, Progress: func(_ string, d, t int) { progress(d, t) }})
+		var b *brief.Brief
+		var failed any
+		func() {
+			defer func() { failed = recover() }()
+			b = brief.Build(f, w, brief.Options{Shown: shown, Progress: func(_ string, d, t int) { progress(d, t) }})
+		}()
 		env.Lock()
 		defer env.UnlockRender()
-		if c.building == sig {
-			done(b)
+		if c.building != sig {
+			return // the brief changed meanwhile: a newer build is under way
 		}
+		if failed != nil {
+			// keep this signature, so the failing build is not retried
+			// at every render; the banner says what happened
+			done(&brief.Brief{Title: c.title()})
+			c.err = fmt.Sprintf("The brief could not be written: %v", failed)
+			c.WS.Fail("writing the brief", failed)
+			return
+		}
+		done(b)
 	}()
 	return c.b
 }
