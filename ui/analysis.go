@@ -181,6 +181,7 @@ func (w *Workspace) SetRole(ref, role string) {
 	w.Roles[ref] = role
 }
 
-// roleOptions are the choices of a series' role in the Data view.
-var roleOptions = []Option{{"", "–"}, {analysis.RoleTarget, "record to explain"}, {analysis.RoleDriver, "short-term factor"},
-	{analysis.RoleForcing, "forcing"}, {analysis.RoleHeat, "heat content"}}
+// roleOptions are the choices of a series' role in the Data view: the
+// record to explain, a short-term factor, a forcing, a heat content.
+var roleOptions = []Option{{"", "–"}, {analysis.RoleTarget, "to explain"}, {analysis.RoleDriver, "factor"},
+	{analysis.RoleForcing, "forcing"}, {analysis.RoleHeat, "heat"}}

@@ -388,7 +388,7 @@ func (c *DataView) Build(vgin *vugu.BuildIn) (vgout *vugu.BuildOut) {
 								vgparent.AppendChild(vgn)
 								vgn = &vugu.VGNode{Type: vugu.VGNodeType(3), Namespace: "", Data: "thead", Attr: []vugu.VGAttribute(nil)}
 								vgparent.AppendChild(vgn)
-								vgn.SetInnerHTML(vugu.HTML("\n\t\t\t\t\t\x3Ctr\x3E\x3Cth\x3EDraw\x3C/th\x3E\x3Cth\x3ESeries\x3C/th\x3E\x3Cth\x3EUnit\x3C/th\x3E\x3Cth\x3ESteps\x3C/th\x3E\x3Cth\x3ESpan\x3C/th\x3E\x3Cth class=\"hl-num\"\x3ECount\x3C/th\x3E\x3Cth class=\"hl-num\"\x3EMissing\x3C/th\x3E\x3Cth\x3ERole\x3C/th\x3E\x3C/tr\x3E\n\t\t\t\t"))
+								vgn.SetInnerHTML(vugu.HTML("\n\t\t\t\t\t\x3Ctr\x3E\x3Cth\x3EDraw\x3C/th\x3E\x3Cth\x3ESeries\x3C/th\x3E\x3Cth\x3EUnit\x3C/th\x3E\x3Cth\x3ESteps\x3C/th\x3E\x3Cth\x3ESpan\x3C/th\x3E\x3Cth class=\"hl-num\"\x3ECount\x3C/th\x3E\x3Cth class=\"hl-num\"\x3EMissing\x3C/th\x3E\x3Cth title=\"What the other views take the series for: the record to explain, a short-term factor, a forcing or a heat content\"\x3ERole\x3C/th\x3E\x3C/tr\x3E\n\t\t\t\t"))
 								vgn = &vugu.VGNode{Type: vugu.VGNodeType(1), Data: "\n\t\t\t\t"}
 								vgparent.AppendChild(vgn)
 								vgn = &vugu.VGNode{Type: vugu.VGNodeType(3), Namespace: "", Data: "tbody", Attr: []vugu.VGAttribute(nil)}
