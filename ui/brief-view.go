@@ -1,6 +1,7 @@
 package ui
 
 import (
+	"context"
 	"encoding/json"
 	"fmt"
 	"strconv"
@@ -28,6 +29,7 @@ type BriefView struct {
 	// building is the signature of the brief being written in the
 	// background ("" when none); progress says how far it is.
 	building, progress string
+	cancel             context.CancelFunc
 }
 
 // Printer is a Host that can open the browser's print dialog.
@@ -75,8 +77,12 @@ func (c *BriefView) current() *brief.Brief {
 		B *analysis.BriefSpec
 	}{f.Analyses, f.Brief})
 	sig := string(raw) + data.String()
-	if sig == c.sig && c.b != nil || sig == c.building {
-		return c.b // up to date, or being written (the old text shows meanwhile)
+	if sig == c.sig && c.b != nil {
+		c.stopBuild() // back to the brief shown: a build for another state is moot
+		return c.b
+	}
+	if sig == c.building {
+		return c.b // being written (the old text shows meanwhile)
 	}
 	w, werr := f.Workspace()
 	keys := map[string]string{}
@@ -106,7 +112,9 @@ func (c *BriefView) current() *brief.Brief {
 	}
 	// analyses to run: in the background, with progress, so the page stays
 	// responsive (a change-point item takes seconds)
-	c.building, c.progress = sig, "Running the analyses of the brief…"
+	c.stopBuild()
+	ctx, cancel := context.WithCancel(context.Background())
+	c.building, c.progress, c.cancel = sig, "Running the analyses of the brief…", cancel
 	go func() {
 		c.WS.Yield()
 		progress := c.WS.Progress(env, func(d, t int) { c.progress = fmt.Sprintf("Running the analyses of the brief: %d of %d steps…", d, t) })
@@ -114,13 +122,21 @@ func (c *BriefView) current() *brief.Brief {
 		var failed any
 		func() {
 			defer func() { failed = recover() }()
-			b = brief.Build(f, w, brief.Options{Shown: shown, Progress: func(_ string, d, t int) { progress(d, t) }})
+			b = brief.Build(f, w, brief.Options{Context: ctx, Shown: shown, Progress: func(_ string, d, t int) { progress(d, t) }})
 		}()
 		env.Lock()
 		defer env.UnlockRender()
 		if c.building != sig {
-			return // the brief changed meanwhile: a newer build is under way
+			// the brief changed meanwhile: keep what was run for later
+			if c.cache == nil {
+				c.cache = map[string]briefRun{}
+			}
+			for id, sh := range shown {
+				c.cache[id] = briefRun{key: keys[id], sh: sh}
+			}
+			return
 		}
+		c.cancel = nil
 		if failed != nil {
 			// keep this signature, so the failing build is not retried
 			// at every render; the banner says what happened
@@ -132,6 +148,15 @@ func (c *BriefView) current() *brief.Brief {
 		done(b)
 	}()
 	return c.b
+}
+
+// stopBuild cancels a build under way, if any.
+func (c *BriefView) stopBuild() {
+	if c.cancel != nil {
+		c.cancel()
+		c.cancel = nil
+	}
+	c.building = ""
 }
 
 // progressText says what the brief is waiting for ("" when nothing).
@@ -236,6 +261,10 @@ func (c *BriefView) download(what string) {
 
 func (c *BriefView) print() {
 	c.WS.Do("printing", func() {
+		if c.current(); c.building != "" {
+			c.note = "The brief is still being written: print it in a moment."
+			return
+		}
 		p, ok := c.WS.Host.(Printer)
 		if !ok {
 			c.note = "This page cannot print here: use the browser's Print command."

@@ -91,7 +91,7 @@ func (c *BudgetView) formState() formState {
 // Monte Carlo shown.
 func (c *BudgetView) PageState() (map[string]string, []analysis.Analysis) {
 	c.Refs()
-	return pageState("budget", c.formState(), shownPanel{"heat", c.heatSet, ""}, shownPanel{"sensitivity", c.runSet, "ran"})
+	return pageState("budget", c.formState(), shownPanel{"heat", c.heatSet, "", false}, shownPanel{"sensitivity", c.runSet, "ran", c.running})
 }
 
 // brief adds the heating rate or the sensitivity to the briefing.

@@ -74,7 +74,7 @@ func (c *DriversView) form() formState {
 // PageState is the form and, when a fit is shown, its analysis.
 func (c *DriversView) PageState() (map[string]string, []analysis.Analysis) {
 	c.setup()
-	return pageState("drivers", c.form(), shownPanel{"adjust", c.fitSet, "fitted"})
+	return pageState("drivers", c.form(), shownPanel{"adjust", c.fitSet, "fitted", false})
 }
 
 // brief adds the adjusted series and the coefficients to the briefing.

@@ -142,7 +142,7 @@ func (c *ResponseView) form() formState {
 // PageState is the form and the analyses of the run and the fit shown.
 func (c *ResponseView) PageState() (map[string]string, []analysis.Analysis) {
 	c.setup()
-	return pageState("response", c.form(), shownPanel{"respond", c.runSet, ""}, shownPanel{"fit", c.fitSet, "fitted"})
+	return pageState("response", c.form(), shownPanel{"respond", c.runSet, "", false}, shownPanel{"fit", c.fitSet, "fitted", c.fitRunning})
 }
 
 // brief adds the run's attribution or the fit to the briefing.

@@ -398,6 +398,9 @@ type shownPanel struct {
 	name     string
 	settings any
 	flag     string
+	// running: the panel's work is under way (its settings are not set
+	// yet); it counts as shown, so a reload runs it again
+	running bool
 }
 
 // pageState is a view's PageState: its form and the analyses of the
@@ -408,7 +411,7 @@ func pageState(view string, form formState, panels ...shownPanel) (map[string]st
 	for _, p := range panels {
 		on := p.settings != nil && !reflect.ValueOf(p.settings).IsNil()
 		if p.flag != "" {
-			st[p.flag] = strconv.FormatBool(on)
+			st[p.flag] = strconv.FormatBool(on || p.running)
 		}
 		if on {
 			list = append(list, pageAnalysis(view, p.name, p.settings))

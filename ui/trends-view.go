@@ -110,8 +110,8 @@ func (c *TrendsView) form() formState {
 // PageState is the form and the analyses of the panels shown.
 func (c *TrendsView) PageState() (map[string]string, []analysis.Analysis) {
 	c.setup()
-	return pageState("trends", c.form(), shownPanel{"trend", c.mainSet, ""}, shownPanel{"compare", c.cmpSet, "shown_compare"},
-		shownPanel{"grid", c.gridSet, "shown_grid"}, shownPanel{"breaks", c.brkSet, "shown_breaks"}, shownPanel{"sen", c.senSet, "shown_sen"})
+	return pageState("trends", c.form(), shownPanel{"trend", c.mainSet, "", false}, shownPanel{"compare", c.cmpSet, "shown_compare", false},
+		shownPanel{"grid", c.gridSet, "shown_grid", false}, shownPanel{"breaks", c.brkSet, "shown_breaks", c.brkRunning}, shownPanel{"sen", c.senSet, "shown_sen", false})
 }
 
 // restore applies a loaded form and recomputes the panels that were shown

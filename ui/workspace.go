@@ -371,8 +371,10 @@ func (w *Workspace) HasDemo() bool {
 
 // Remove drops a file and its series.
 func (w *Workspace) Remove(id int) {
+	var removed []*File
 	for i, f := range w.Files {
 		if f.ID == id {
+			removed = append(removed, f)
 			w.Files = append(w.Files[:i:i], w.Files[i+1:]...)
 			break
 		}
@@ -380,6 +382,13 @@ func (w *Workspace) Remove(id int) {
 	for k := range w.sel {
 		if fileOfKey(k) == id {
 			delete(w.sel, k)
+		}
+	}
+	for _, f := range removed {
+		for ref := range w.Roles {
+			if strings.HasPrefix(ref, f.Name+":") {
+				delete(w.Roles, ref)
+			}
 		}
 	}
 	if w.PreviewID == id {

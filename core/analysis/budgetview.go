@@ -276,7 +276,7 @@ func (w *Workspace) pickSeries(name string, ok func(*series.Series) bool) string
 // heat-content record usually curves upward, and one straight line over
 // its whole span says little about the present rate.
 func (w *Workspace) DefaultHeatSettings() HeatSettings {
-	heat := w.firstWithRole(RoleHeat)
+	heat := w.firstWithRole(RoleHeat, isHeatUnit)
 	if heat == "" {
 		heat = w.pickSeries("ocean_heat", isHeatUnit)
 	}
@@ -303,16 +303,9 @@ func (w *Workspace) DefaultHeatSettings() HeatSettings {
 // except through the small overlap term of CH4 and N2O.
 func (w *Workspace) GuessForcing() (ForcingSettings, bool) {
 	var best ForcingSettings
-	if given := w.WithRole(RoleForcing); len(given) > 0 {
+	if given := w.roleForcing(); len(given) > 0 {
 		// the series the user marked as forcing
-		for _, r := range given {
-			s, _ := w.Find(r)
-			k := forcingKind(s)
-			if k == "" {
-				k = "erf" // a forcing already in W m-2
-			}
-			best.Components = append(best.Components, ForcingComponent{Series: r, Name: s.Name, Kind: k})
-		}
+		best.Components = given
 		return best, true
 	}
 	for _, l := range w.Files {
@@ -1147,10 +1140,11 @@ func (w *Workspace) ImbalanceCandidates() []string {
 // from: the first series given the target role, else surface_anomaly,
 // else the first series in K or °C ("" if none).
 func (w *Workspace) DefaultTemperature() string {
-	if t := w.firstWithRole(RoleTarget); t != "" {
+	temp := func(s *series.Series) bool { return isTemperatureUnit(s.Unit) }
+	if t := w.firstWithRole(RoleTarget, temp); t != "" {
 		return t
 	}
-	return w.pickSeries("surface_anomaly", func(s *series.Series) bool { return isTemperatureUnit(s.Unit) })
+	return w.pickSeries("surface_anomaly", temp)
 }
 
 // BudgetSeriesDefault is the series a quantity switched to a series source

@@ -133,18 +133,8 @@ func (w *Workspace) ResponseDefaults() ResponseDefaults {
 			d.Components = cs
 		}
 	}
-	if given := w.WithRole(RoleForcing); len(given) > 0 {
-		// the series the user marked as forcing, the kind guessed from
-		// name and unit (a forcing in W m-2 otherwise)
-		d.Components = nil
-		for _, r := range given {
-			s, _ := w.Find(r)
-			k := ForcingKindGuess(s.Name, s.Unit)
-			if k == "" {
-				k = forcing.KindERF
-			}
-			d.Components = append(d.Components, ForcingComponent{Series: r, Name: s.Name, Kind: k})
-		}
+	if given := w.roleForcing(); len(given) > 0 {
+		d.Components = given // the series the user marked as forcing
 	}
 	inComps := map[string]bool{}
 	aer := 0
@@ -158,7 +148,7 @@ func (w *Workspace) ResponseDefaults() ResponseDefaults {
 	temp := func(s *series.Series) bool {
 		return respTemperatureUnit(s.Unit) && !respIndexName(s.Name) && !inComps[ref(s)]
 	}
-	d.Record = w.firstWithRole(RoleTarget)
+	d.Record = w.firstWithRole(RoleTarget, temp)
 	for _, s := range all {
 		if d.Record == "" && s.Name == "surface_anomaly" && temp(s) {
 			d.Record = ref(s)
@@ -175,7 +165,7 @@ func (w *Workspace) ResponseDefaults() ResponseDefaults {
 			d.Second = ref(s)
 		}
 	}
-	d.Heat = w.firstWithRole(RoleHeat)
+	d.Heat = w.firstWithRole(RoleHeat, func(s *series.Series) bool { return strings.EqualFold(strings.TrimSpace(s.Unit), "zj") })
 	if d.Heat == "" {
 		for _, s := range all {
 			if strings.EqualFold(strings.TrimSpace(s.Unit), "zj") && (d.Heat == "" || s.Name == "ocean_heat") {

@@ -45,9 +45,20 @@ func TestRolesSteerDefaults(t *testing.T) {
 	if !ok || len(fs.Components) != 2 {
 		t.Errorf("GuessForcing with roles: %v %v", fs, ok)
 	}
-	// a heat role wins over the unit guess
+	// a role on a series whose unit cannot serve is passed over
 	w.Roles["tessary_forcing.csv:n2o"] = RoleHeat
-	if got := w.DefaultHeatSettings().Series; got != "tessary_forcing.csv:n2o" {
-		t.Errorf("heat series %q, want the one given the heat role", got)
+	if got := w.DefaultHeatSettings().Series; got != "tessary_ocean_heat.csv:ocean_heat" {
+		t.Errorf("heat series %q, want ocean_heat (n2o in ppb is no heat content)", got)
+	}
+	w.Roles["tessary_forcing.csv:ch4"] = RoleForcing // a concentration: its kind is guessed, never "erf"
+	w.Roles["tessary_surface.csv:ocean_index"] = RoleForcing
+	fs, _ = w.GuessForcing()
+	for _, c := range fs.Components {
+		if c.Series == "tessary_forcing.csv:ch4" && c.Kind != "ch4" {
+			t.Errorf("ch4 given the forcing role is taken as %q", c.Kind)
+		}
+		if c.Series == "tessary_surface.csv:ocean_index" {
+			t.Errorf("ocean_index (K) given the forcing role became a component %+v", c)
+		}
 	}
 }

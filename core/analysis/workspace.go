@@ -37,12 +37,36 @@ func (w *Workspace) WithRole(role string) []string {
 	return out
 }
 
-// firstWithRole is the first series given a role ("" for none).
-func (w *Workspace) firstWithRole(role string) string {
-	if l := w.WithRole(role); len(l) > 0 {
-		return l[0]
+// firstWithRole is the first series given a role whose unit suits the
+// use (ok), or "" for none.
+func (w *Workspace) firstWithRole(role string, ok func(*series.Series) bool) string {
+	for _, s := range w.All() {
+		if w.RoleOf(s) == role && ok(s) {
+			return ref(s)
+		}
 	}
 	return ""
+}
+
+// roleForcing lists the series given the forcing role as components, the
+// kind guessed from name and unit (ForcingKindGuess); a series whose kind
+// cannot be told is taken as a forcing already in W m-2 only when its unit
+// says so, and left out otherwise.
+func (w *Workspace) roleForcing() []ForcingComponent {
+	var out []ForcingComponent
+	for _, s := range w.All() {
+		if w.RoleOf(s) != RoleForcing {
+			continue
+		}
+		k := ForcingKindGuess(s.Name, s.Unit)
+		if k == "" && isFluxUnit(s.Unit) {
+			k = "erf"
+		}
+		if k != "" {
+			out = append(out, ForcingComponent{Series: ref(s), Name: s.Name, Kind: k})
+		}
+	}
+	return out
 }
 
 // NewWorkspace reads the files into a workspace. Files that fail to read

@@ -694,10 +694,14 @@ func (t *texts) results(a analysis.Analysis, v any) string {
 }
 
 func areaText(r *budget.HeatResult) string {
-	if r.Area.Source != "" {
-		return r.Area.Source
+	m2 := strconv.FormatFloat(r.AreaM2, 'e', 2, 64)
+	switch r.Area.Name {
+	case "earth":
+		return "the Earth's surface (" + m2 + " m2)"
+	case "ocean":
+		return "the world ocean (" + m2 + " m2)"
 	}
-	return fmt.Sprintf("%s m2", sig(r.AreaM2, 4))
+	return "an area of " + m2 + " m2"
 }
 
 func gregoryText(g *budget.GregoryResult) string {
