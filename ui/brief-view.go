@@ -87,11 +87,29 @@ func (c *BriefView) current() *brief.Brief {
 	w, werr := f.Workspace()
 	keys := map[string]string{}
 	shown := map[string]*analysis.Shown{}
+	failed := map[string]string{}
 	for _, a := range f.Analyses {
 		js, _ := json.Marshal(a)
 		keys[a.ID] = string(js) + data.String()
 		if old, ok := c.cache[a.ID]; ok && old.key == keys[a.ID] {
-			shown[a.ID] = old.sh
+			if old.err != "" {
+				failed[a.ID] = old.err
+			} else {
+				shown[a.ID] = old.sh
+			}
+		}
+	}
+	keep := func() {
+		if c.cache == nil {
+			c.cache = map[string]briefRun{}
+		}
+		for id, sh := range shown {
+			c.cache[id] = briefRun{key: keys[id], sh: sh}
+		}
+		for id, e := range failed {
+			if !strings.Contains(e, "context canceled") {
+				c.cache[id] = briefRun{key: keys[id], err: e}
+			}
 		}
 	}
 	done := func(b *brief.Brief) {
@@ -99,15 +117,13 @@ func (c *BriefView) current() *brief.Brief {
 		if werr != nil {
 			c.err = werr.Error()
 		}
-		c.cache = map[string]briefRun{}
-		for id, sh := range shown {
-			c.cache[id] = briefRun{key: keys[id], sh: sh}
-		}
+		c.cache = nil
+		keep()
 	}
 	env := c.WS.Env
-	if env == nil || len(shown) == len(f.Analyses) {
+	if env == nil || len(shown)+len(failed) == len(f.Analyses) {
 		// nothing to run (or no page to hand back to): write it now
-		done(brief.Build(f, w, brief.Options{Shown: shown}))
+		done(brief.Build(f, w, brief.Options{Shown: shown, Failed: failed}))
 		return c.b
 	}
 	// analyses to run: in the background, with progress, so the page stays
@@ -119,30 +135,24 @@ func (c *BriefView) current() *brief.Brief {
 		c.WS.Yield()
 		progress := c.WS.Progress(env, func(d, t int) { c.progress = fmt.Sprintf("Running the analyses of the brief: %d of %d steps…", d, t) })
 		var b *brief.Brief
-		var failed any
+		var crashed any
 		func() {
-			defer func() { failed = recover() }()
-			b = brief.Build(f, w, brief.Options{Context: ctx, Shown: shown, Progress: func(_ string, d, t int) { progress(d, t) }})
+			defer func() { crashed = recover() }()
+			b = brief.Build(f, w, brief.Options{Context: ctx, Shown: shown, Failed: failed, Progress: func(_ string, d, t int) { progress(d, t) }})
 		}()
 		env.Lock()
 		defer env.UnlockRender()
 		if c.building != sig {
-			// the brief changed meanwhile: keep what was run for later
-			if c.cache == nil {
-				c.cache = map[string]briefRun{}
-			}
-			for id, sh := range shown {
-				c.cache[id] = briefRun{key: keys[id], sh: sh}
-			}
+			keep() // the brief changed meanwhile: keep what was run for later
 			return
 		}
 		c.cancel = nil
-		if failed != nil {
+		if crashed != nil {
 			// keep this signature, so the failing build is not retried
 			// at every render; the banner says what happened
 			done(&brief.Brief{Title: c.title()})
-			c.err = fmt.Sprintf("The brief could not be written: %v", failed)
-			c.WS.Fail("writing the brief", failed)
+			c.err = fmt.Sprintf("The brief could not be written: %v", crashed)
+			c.WS.Fail("writing the brief", crashed)
 			return
 		}
 		done(b)
@@ -172,6 +182,7 @@ func (c *BriefView) progressText() string {
 type briefRun struct {
 	key string
 	sh  *analysis.Shown
+	err string // why it failed ("" when it ran)
 }
 
 func (c *BriefView) items() []brief.Item {

@@ -52,8 +52,10 @@ type Options struct {
 	Context  context.Context
 	Progress func(id string, done, total int)
 	// Shown holds analyses already run (by ID); Build runs the others and
-	// adds them.
-	Shown map[string]*analysis.Shown
+	// adds them. Failed holds the errors of analyses that failed (by ID),
+	// likewise: they are not run again.
+	Shown  map[string]*analysis.Shown
+	Failed map[string]string
 }
 
 // DefaultTitle is the title of a briefing that has none.
@@ -79,7 +81,10 @@ func Build(f *analysis.AnalysisFile, w *analysis.Workspace, opt Options) *Brief 
 	if shown == nil {
 		shown = map[string]*analysis.Shown{}
 	}
-	errs := map[string]string{}
+	errs := opt.Failed
+	if errs == nil {
+		errs = map[string]string{}
+	}
 	var order []string
 	tx := &texts{w: w, refs: map[string]bool{}, caveats: map[string]bool{}, files: map[string]map[string]bool{}}
 	for _, it := range f.Brief.Items {
@@ -105,7 +110,7 @@ func Build(f *analysis.AnalysisFile, w *analysis.Workspace, opt Options) *Brief 
 				shown[a.ID] = sh
 			}
 			order = append(order, a.ID)
-		} else if done && !contains(order, a.ID) {
+		} else if !contains(order, a.ID) {
 			order = append(order, a.ID)
 		}
 		if e := errs[a.ID]; e != "" {

@@ -96,6 +96,12 @@ func TestBuildReportsFailures(t *testing.T) {
 	if !strings.Contains(strings.Join(b.Results, "\n"), "could not be run") {
 		t.Error("the failed analysis is not reported in the results")
 	}
+	// a failure handed in is reported as it is, without running again
+	failed := map[string]string{"trend-demo": "kept from before"}
+	b = Build(f, w, Options{Failed: failed})
+	if b.Items[2].Err != "kept from before" || !strings.Contains(b.Items[1].Err, "no_such_series") || failed["bad-trend"] == "" {
+		t.Errorf("with Failed: %q / %q; failed map %v", b.Items[2].Err, b.Items[1].Err, failed)
+	}
 }
 
 // TestExportsEscapeAndZip: labels from files never become markup in the
