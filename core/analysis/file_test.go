@@ -387,6 +387,7 @@ func FuzzParseAnalysisFile(f *testing.F) {
 		f.Add(b)
 	}
 	f.Add([]byte(`{"format":"heatledger-analysis","version":1,"files":[{"name":"a.csv","text":"year,t\n1990,1\n1991,2\n1992,4\n"}],"analyses":[{"id":"t","kind":"trend","settings":{"series":["t"]}}]}`))
+	f.Add([]byte(`{"format":"heatledger-analysis","version":1,"files":[],"roles":{"t":"target"},"analyses":[{"id":"t","kind":"trend","settings":{"series":["t"]}}],"brief":{"title":"x","items":[{"analysis":"t","part":"figure"}]},"page":{"trends":{"noise":"ar1"}}}`))
 	f.Fuzz(func(t *testing.T, data []byte) {
 		af, err := ParseAnalysisFile(data)
 		if err != nil {
@@ -404,4 +405,15 @@ func FuzzParseAnalysisFile(f *testing.F) {
 			t.Fatalf("re-parse: %v", err)
 		}
 	})
+}
+
+// TestBriefItemsChecked: a brief item must name one of the file's
+// analyses; the refusal says where.
+func TestBriefItemsChecked(t *testing.T) {
+	data := []byte("{\n  \"format\": \"heatledger-analysis\",\n  \"version\": 1,\n  \"files\": [],\n  \"analyses\": [],\n  \"brief\": {\"items\": [{\"analysis\": \"gone\"}]}\n}\n")
+	_, err := ParseAnalysisFile(data)
+	var fe *FileError
+	if !errors.As(err, &fe) || fe.Path != "brief.items[0].analysis" || fe.Line != 6 || !strings.Contains(fe.Msg, `"gone"`) {
+		t.Fatalf("error %v (%+v), want brief.items[0].analysis at line 6", err, fe)
+	}
 }
