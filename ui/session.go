@@ -36,6 +36,15 @@ type BriefState struct {
 // view do not change the item. It returns the note to show (settings that
 // are a nil pointer, a panel not computed, add nothing).
 func (w *Workspace) AddToBrief(settings any, parts ...string) string {
+	return w.AddToBriefDrawn(settings, nil, parts...)
+}
+
+// AddToBriefDrawn is AddToBrief with the figure's drawing choices (nil or
+// zero: the standard form).
+func (w *Workspace) AddToBriefDrawn(settings any, d *analysis.Display, parts ...string) string {
+	if d != nil && *d == (analysis.Display{}) {
+		d = nil
+	}
 	if settings == nil || reflect.ValueOf(settings).Kind() == reflect.Pointer && reflect.ValueOf(settings).IsNil() {
 		return "Nothing to add yet: compute this panel first."
 	}
@@ -76,10 +85,15 @@ func (w *Workspace) AddToBrief(settings any, parts ...string) string {
 	for _, p := range parts {
 		dup := false
 		for _, it := range b.Items {
-			dup = dup || it.Analysis == id && it.Part == p
+			dup = dup || it.Analysis == id && it.Part == p && (it.Display == nil) == (d == nil) && (d == nil || *it.Display == *d)
 		}
 		if !dup {
-			b.Items = append(b.Items, analysis.BriefItem{Analysis: id, Part: p})
+			item := analysis.BriefItem{Analysis: id, Part: p}
+			if d != nil {
+				dd := *d
+				item.Display = &dd
+			}
+			b.Items = append(b.Items, item)
 			added++
 		}
 	}

@@ -88,11 +88,12 @@ type TrendsView struct {
 	gridCell     string
 	gridS, gridE int
 
-	mainSet *analysis.TrendSettings
-	cmpSet  *analysis.CompareSettings
-	gridSet *analysis.GridSettings
-	brkSet  *analysis.BreaksSettings
-	senSet  *analysis.SenSettings
+	mainSet    *analysis.TrendSettings
+	mainSmooth analysis.SmoothSettings // the smoothing drawn with it
+	cmpSet     *analysis.CompareSettings
+	gridSet    *analysis.GridSettings
+	brkSet     *analysis.BreaksSettings
+	senSet     *analysis.SenSettings
 }
 
 func (c *TrendsView) form() formState {
@@ -145,11 +146,22 @@ func (c *TrendsView) brief(panel string) {
 	c.WS.Do("adding to the brief", func() {
 		switch panel {
 		case "main":
-			c.note = c.WS.AddToBrief(c.mainSet, "figure")
+			d := &analysis.Display{Smooth: c.mainSmooth, Per: c.per}
+			if d.Per == "decade" {
+				d.Per = ""
+			}
+			if d.Smooth.Kind == "none" {
+				d.Smooth = analysis.SmoothSettings{}
+			}
+			c.note = c.WS.AddToBriefDrawn(c.mainSet, d, "figure")
 		case "compare":
 			c.note = c.WS.AddToBrief(c.cmpSet, "figure", "table")
 		case "grid":
-			c.note = c.WS.AddToBrief(c.gridSet, "figure")
+			d := &analysis.Display{Mark: c.gridMark}
+			if d.Mark == "zero" {
+				d.Mark = ""
+			}
+			c.note = c.WS.AddToBriefDrawn(c.gridSet, d, "figure")
 		case "breaks":
 			c.note = c.WS.AddToBrief(c.brkSet, "figure", "table")
 		case "sen":
@@ -249,7 +261,7 @@ func (c *TrendsView) refresh() {
 		c.mainErr = err.Error()
 		return
 	}
-	c.main, c.mainSet = v, &set
+	c.main, c.mainSet, c.mainSmooth = v, &set, sm
 }
 
 func (c *TrendsView) onPick(ref string) {

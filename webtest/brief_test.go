@@ -60,6 +60,9 @@ func TestBriefWholeSession(t *testing.T) {
 	p.waitFor("the trend table", `document.querySelectorAll("#hl-tr-table tbody tr").length > 0`)
 	p.trSet("#hl-tr-noise", "arma11")
 	p.waitFor("the ARMA(1,1) trend", `document.querySelector("#hl-tr-table tbody tr") && document.querySelector("#hl-tr-table").textContent.includes("arma11")`)
+	// drawn with a 12-month running mean: the brief's figure shows it too
+	p.trSet("#hl-tr-smooth", "running")
+	p.waitFor("the running mean", `document.getElementById("hl-tr-chart").innerHTML.includes("running mean")`)
 	p.click("#hl-tr-brief")
 	p.waitFor("the added note", `(document.getElementById("hl-tr-note") || {}).textContent.includes("Added to the brief")`)
 
@@ -85,6 +88,9 @@ func TestBriefWholeSession(t *testing.T) {
 		if !strings.Contains(methods, want) {
 			t.Errorf("the brief's text lacks %q", want)
 		}
+	}
+	if !eval[bool](p, `document.querySelector("#hl-brief-text figure svg").innerHTML.includes("running mean")`) {
+		t.Error("the brief's trend figure lost the running mean drawn in the Trends view")
 	}
 	if n := eval[int](p, `document.querySelectorAll("#hl-brief-text figure svg").length`); n != 4 {
 		t.Errorf("the brief shows %d figures, want 4 (trend, adjusted series, heating rate, ECS)", n)

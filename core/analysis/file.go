@@ -106,6 +106,18 @@ type BriefSpec struct {
 type BriefItem struct {
 	Analysis string `json:"analysis"`
 	Part     string `json:"part,omitempty"`
+	// Display is how the part is drawn where the page lets the user
+	// choose (nil: the standard form).
+	Display *Display `json:"display,omitempty"`
+}
+
+// Display holds the drawing choices of a figure that change no number:
+// the smoothing drawn over a trend's data and its slope unit, and what the
+// trend grid marks.
+type Display struct {
+	Smooth SmoothSettings `json:"smooth,omitzero"`
+	Per    string         `json:"per,omitempty"`  // decade (default), year or century
+	Mark   string         `json:"mark,omitempty"` // grid: zero (default) or full
 }
 
 // DataFile is one embedded data file.

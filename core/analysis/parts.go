@@ -61,9 +61,15 @@ type ForcingView struct {
 	Table  Table       `json:"table"`
 }
 
-// Show runs an analysis and builds its view and parts. ctx and progress
-// may be nil (they serve the Monte Carlo kinds).
-func (w *Workspace) Show(a Analysis, ctx context.Context, progress func(done, total int)) (sh *Shown, err error) {
+// Show runs an analysis and builds its view and parts in their standard
+// form. ctx and progress may be nil (they serve the Monte Carlo kinds).
+func (w *Workspace) Show(a Analysis, ctx context.Context, progress func(done, total int)) (*Shown, error) {
+	return w.ShowWith(a, Display{}, ctx, progress)
+}
+
+// ShowWith is Show with drawing choices (smoothing and slope unit of a
+// trend figure, the grid's mark).
+func (w *Workspace) ShowWith(a Analysis, d Display, ctx context.Context, progress func(done, total int)) (sh *Shown, err error) {
 	defer func() {
 		if r := recover(); r != nil {
 			sh, err = nil, fmt.Errorf("analysis %q: internal error: %v", a.ID, r)
@@ -82,7 +88,7 @@ func (w *Workspace) Show(a Analysis, ctx context.Context, progress func(done, to
 	}
 	switch s := a.Settings.(type) {
 	case *TrendSettings:
-		v, err := w.TrendFigure(*s, SmoothSettings{}, "")
+		v, err := w.TrendFigure(*s, d.Smooth, d.Per)
 		if err != nil {
 			return nil, err
 		}
@@ -98,7 +104,11 @@ func (w *Workspace) Show(a Analysis, ctx context.Context, progress func(done, to
 		fig("figure", v.SVG, &v.Table)
 		tab("table", &v.Table)
 	case *GridSettings:
-		v, err := w.GridFigure(*s, "zero")
+		mark := d.Mark
+		if mark == "" {
+			mark = "zero"
+		}
+		v, err := w.GridFigure(*s, mark)
 		if err != nil {
 			return nil, err
 		}

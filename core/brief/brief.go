@@ -86,6 +86,7 @@ func Build(f *analysis.AnalysisFile, w *analysis.Workspace, opt Options) *Brief 
 		errs = map[string]string{}
 	}
 	var order []string
+	drawn := map[string]*analysis.Shown{}
 	tx := &texts{w: w, refs: map[string]bool{}, caveats: map[string]bool{}, files: map[string]map[string]bool{}}
 	for _, it := range f.Brief.Items {
 		item := Item{Analysis: it.Analysis, Part: it.Part}
@@ -117,6 +118,19 @@ func Build(f *analysis.AnalysisFile, w *analysis.Workspace, opt Options) *Brief 
 			item.Err = e
 			b.Items = append(b.Items, item)
 			continue
+		}
+		if it.Display != nil && *it.Display != (analysis.Display{}) {
+			// drawn as the page showed it: its own run of the figure
+			// (the numbers, and so the text, are those of sh)
+			key := a.ID + "\x00" + fmt.Sprint(*it.Display)
+			if drawn[key] == nil {
+				if d, err := w.ShowWith(a, *it.Display, opt.Context, nil); err == nil {
+					drawn[key] = d
+				} else {
+					drawn[key] = sh
+				}
+			}
+			sh = drawn[key]
 		}
 		p, err := sh.Part(it.Part)
 		if err != nil {

@@ -155,3 +155,34 @@ func TestNum(t *testing.T) {
 		}
 	}
 }
+
+// TestDisplayChoices: an item drawn with the page's choices (smoothing,
+// slope unit, grid mark) shows them, and the text stays that of the
+// standard run.
+func TestDisplayChoices(t *testing.T) {
+	f, w := demo(t)
+	plain := Build(f, w, Options{})
+	f.Brief.Items = []analysis.BriefItem{
+		{Analysis: "trend-demo", Display: &analysis.Display{Smooth: analysis.SmoothSettings{Kind: "running", Window: 12}, Per: "century"}},
+		{Analysis: "grid-demo", Display: &analysis.Display{Mark: "full"}},
+		{Analysis: "grid-demo"},
+	}
+	b := Build(f, w, Options{})
+	for _, it := range b.Items {
+		if it.Err != "" {
+			t.Fatalf("%s: %s", it.Analysis, it.Err)
+		}
+	}
+	if !strings.Contains(b.Items[0].SVG, "running mean") {
+		t.Error("the trend figure drawn with a running mean does not show it")
+	}
+	if !strings.Contains(strings.Join(b.Items[0].Table.Columns, " "), "century") {
+		t.Errorf("the trend figure's table is not per century: %v", b.Items[0].Table.Columns)
+	}
+	if b.Items[1].SVG == b.Items[2].SVG {
+		t.Error("the grid marked against the full-record trend is drawn as the one marked against zero")
+	}
+	if plain.Results[0] != b.Results[0] {
+		t.Errorf("drawing choices changed the text:\n%s\n%s", plain.Results[0], b.Results[0])
+	}
+}
