@@ -10,6 +10,7 @@ import (
 	"os"
 	"os/exec"
 	"path/filepath"
+	"slices"
 	"strconv"
 	"strings"
 	"testing"
@@ -194,7 +195,7 @@ func TestBriefWholeSession(t *testing.T) {
 	p.waitFor("the autosave", `(document.body.dataset.saved || "") !== `+js(before))
 	p.do(chromedp.Reload())
 	p.waitReady()
-	if !slicesContain(p.fileNames(), "station.csv") {
+	if !slices.Contains(p.fileNames(), "station.csv") {
 		t.Errorf("after a reload the files are %v, want station.csv among them", p.fileNames())
 	}
 	p.brOpenBrief(7)
@@ -219,7 +220,7 @@ func TestBriefWholeSession(t *testing.T) {
 	p.waitFor("the empty brief", `!!document.getElementById("hl-brief-empty")`)
 	p.click("#hl-view-data")
 	p.waitFor("the files", `!!document.querySelector("article[data-file]")`)
-	if slicesContain(p.fileNames(), "station.csv") {
+	if slices.Contains(p.fileNames(), "station.csv") {
 		t.Error("start fresh kept station.csv")
 	}
 	// and what the browser keeps is the fresh start too
@@ -227,7 +228,7 @@ func TestBriefWholeSession(t *testing.T) {
 	p.waitFor("the autosave of the fresh start", `(document.body.dataset.saved || "") !== `+js(fresh))
 	p.do(chromedp.Reload())
 	p.waitReady()
-	if slicesContain(p.fileNames(), "station.csv") {
+	if slices.Contains(p.fileNames(), "station.csv") {
 		t.Error("after start fresh and a reload, station.csv is back")
 	}
 	p.brOpenBrief(0)
@@ -241,7 +242,7 @@ func TestBriefWholeSession(t *testing.T) {
 	p.brOpenBrief(7)
 	p.click("#hl-view-data")
 	p.waitFor("the files", `!!document.querySelector("article[data-file]")`)
-	if !slicesContain(p.fileNames(), "station.csv") {
+	if !slices.Contains(p.fileNames(), "station.csv") {
 		t.Errorf("the opened file brought back files %v, want station.csv among them", p.fileNames())
 	}
 	p.trNoBanner()
@@ -253,7 +254,7 @@ func TestBriefDamagedAnalysisFile(t *testing.T) {
 	p := openPage(t)
 	p.upload(map[string]string{"broken" + analysis.AnalysisExt: "{\n  \"format\": \"heatledger-analysis\",\n  \"version\": 1,\n  \"files\": [,]\n}\n"})
 	p.waitFor("the refusal", `(document.querySelector(`+js(fileSel("broken"+analysis.AnalysisExt))+`) || {textContent: ""}).textContent.includes("broken.heatledger.json:4:")`)
-	if !slicesContain(p.fileNames(), "tessary_surface.csv") {
+	if !slices.Contains(p.fileNames(), "tessary_surface.csv") {
 		t.Errorf("the demo was dropped: files %v", p.fileNames())
 	}
 	p.trNoBanner()
@@ -268,15 +269,6 @@ func (p *tab) brMedia(media string) {
 	})); err != nil {
 		p.t.Fatalf("emulating media %q: %v", media, err)
 	}
-}
-
-func slicesContain(list []string, s string) bool {
-	for _, x := range list {
-		if x == s {
-			return true
-		}
-	}
-	return false
 }
 
 // brUnzip reads the Markdown export: brief.md and the SVG files.

@@ -13,6 +13,7 @@ package brief
 import (
 	"context"
 	"fmt"
+	"slices"
 	"sort"
 	"strings"
 
@@ -111,7 +112,7 @@ func Build(f *analysis.AnalysisFile, w *analysis.Workspace, opt Options) *Brief 
 				shown[a.ID] = sh
 			}
 			order = append(order, a.ID)
-		} else if !contains(order, a.ID) {
+		} else if !slices.Contains(order, a.ID) {
 			order = append(order, a.ID)
 		}
 		if e := errs[a.ID]; e != "" {
@@ -167,15 +168,6 @@ func safeText(a analysis.Analysis, what string, f func() string) (out string) {
 		}
 	}()
 	return f()
-}
-
-func contains(list []string, s string) bool {
-	for _, x := range list {
-		if x == s {
-			return true
-		}
-	}
-	return false
 }
 
 // label names an analysis in the text: its kind's name and its ID.
