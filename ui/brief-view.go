@@ -42,15 +42,9 @@ type SavedClearer interface{ ClearSaved() }
 // reads: the data files, the briefing's analyses and its items.
 func (w *Workspace) BriefFile() (*analysis.AnalysisFile, error) {
 	f := analysis.NewAnalysisFile()
-	for _, fl := range w.Files {
-		if fl.Data == nil {
-			continue
-		}
-		r, err := fl.Reading.Reading()
-		if err != nil {
-			return nil, err
-		}
-		f.Files = append(f.Files, analysis.DataFile{Name: fl.Name, Text: string(fl.Data), Reading: r})
+	var err error
+	if f.Files, err = w.dataFiles(); err != nil {
+		return nil, err
 	}
 	f.Analyses = append(f.Analyses, w.Brief.Analyses...)
 	f.Brief = &analysis.BriefSpec{Title: w.Brief.Title, Items: append([]analysis.BriefItem{}, w.Brief.Items...)}
@@ -61,21 +55,18 @@ func (w *Workspace) BriefFile() (*analysis.AnalysisFile, error) {
 // changed since the last build. Each analysis is run once per settings and
 // data: moving an item or retitling the brief reuses the runs.
 func (c *BriefView) current() *brief.Brief {
-	f, err := c.WS.BriefFile()
-	if err != nil {
-		c.err, c.b = err.Error(), nil
-		return nil
-	}
-	// the data's identity: a file read again (other options, new bytes)
-	// gets a new result
+	// the signature (checked at every render, so it copies no file text):
+	// the brief's analyses, title and items, and the data's identity (a
+	// file read again, with other options or new bytes, gets a new result)
 	var data strings.Builder
 	for _, fl := range c.WS.Files {
 		fmt.Fprintf(&data, "%s\x00%d\x00%p\x00", fl.Name, len(fl.Data), fl.Result)
 	}
 	raw, _ := json.Marshal(struct {
 		A []analysis.Analysis
-		B *analysis.BriefSpec
-	}{f.Analyses, f.Brief})
+		T string
+		I []analysis.BriefItem
+	}{c.WS.Brief.Analyses, c.WS.Brief.Title, c.WS.Brief.Items})
 	sig := string(raw) + data.String()
 	if sig == c.sig && c.b != nil {
 		c.stopBuild() // back to the brief shown: a build for another state is moot
@@ -84,7 +75,14 @@ func (c *BriefView) current() *brief.Brief {
 	if sig == c.building {
 		return c.b // being written (the old text shows meanwhile)
 	}
-	w, werr := f.Workspace()
+	f, err := c.WS.BriefFile()
+	if err != nil {
+		c.err, c.b = err.Error(), nil
+		return nil
+	}
+	// the series as the page read them: the same bytes and reading options
+	// the saved file holds, so heatledger run reads the same values
+	w := c.WS.Analysis()
 	keys := map[string]string{}
 	shown := map[string]*analysis.Shown{}
 	failed := map[string]string{}
@@ -114,9 +112,6 @@ func (c *BriefView) current() *brief.Brief {
 	}
 	done := func(b *brief.Brief) {
 		c.b, c.sig, c.building, c.err = b, sig, "", ""
-		if werr != nil {
-			c.err = werr.Error()
-		}
 		c.cache = nil
 		keep()
 	}

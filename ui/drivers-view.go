@@ -91,14 +91,6 @@ func (c *DriversView) setup() {
 	c.trendKind, c.noise, c.level = "linear", "ar1", "0.95"
 	if st := c.WS.ViewState("drivers"); st != nil {
 		c.form().load(st)
-		if c.picks == nil {
-			c.picks = map[string]*driverPick{}
-		}
-		for k, v := range c.picks {
-			if v == nil {
-				delete(c.picks, k)
-			}
-		}
 		if st["fitted"] == "true" {
 			c.WS.Do("fitting the drivers", c.run)
 		}

@@ -189,19 +189,6 @@ func (c *ResponseView) setup() {
 	st := c.WS.ViewState("response")
 	if st != nil {
 		c.form().load(st)
-		for _, m := range []*map[string]bool{&c.free, &c.drivers} {
-			if *m == nil {
-				*m = map[string]bool{}
-			}
-		}
-		if c.picks == nil {
-			c.picks = map[string]*rsPick{}
-		}
-		for k, v := range c.picks {
-			if v == nil {
-				delete(c.picks, k)
-			}
-		}
 	}
 	c.refresh()
 	if st != nil && st["fitted"] == "true" {

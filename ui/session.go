@@ -175,15 +175,9 @@ func (w *Workspace) ViewState(id string) map[string]string {
 // the briefing.
 func (w *Workspace) AnalysisFile() (*analysis.AnalysisFile, error) {
 	f := analysis.NewAnalysisFile()
-	for _, fl := range w.Files {
-		if fl.Data == nil {
-			continue // a file that could not be read at all holds no text
-		}
-		r, err := fl.Reading.Reading()
-		if err != nil {
-			return nil, fmt.Errorf("%s: %v", fl.Name, err)
-		}
-		f.Files = append(f.Files, analysis.DataFile{Name: fl.Name, Text: string(fl.Data), Reading: r})
+	var err error
+	if f.Files, err = w.dataFiles(); err != nil {
+		return nil, err
 	}
 	for _, fl := range w.Files {
 		if fl.Result == nil {
@@ -249,6 +243,23 @@ func (w *Workspace) AnalysisFile() (*analysis.AnalysisFile, error) {
 		}
 	}
 	return f, nil
+}
+
+// dataFiles are the loaded files as an analysis file embeds them: their
+// text and the options they were read with.
+func (w *Workspace) dataFiles() ([]analysis.DataFile, error) {
+	out := []analysis.DataFile{}
+	for _, fl := range w.Files {
+		if fl.Data == nil {
+			continue // a file that could not be read at all holds no text
+		}
+		r, err := fl.Reading.Reading()
+		if err != nil {
+			return nil, fmt.Errorf("%s: %v", fl.Name, err)
+		}
+		out = append(out, analysis.DataFile{Name: fl.Name, Text: string(fl.Data), Reading: r})
+	}
+	return out, nil
 }
 
 // SaveBytes is the workspace's analysis file as bytes.
@@ -380,7 +391,8 @@ func (s formState) save() map[string]string {
 }
 
 // load sets the fields found in m; others keep their defaults. A value
-// that does not decode is skipped.
+// that does not decode is skipped; maps come back non-nil, without nil
+// entries.
 func (s formState) load(m map[string]string) {
 	for k, p := range s.strs {
 		if v, ok := m[k]; ok {
@@ -399,6 +411,20 @@ func (s formState) load(m map[string]string) {
 			fresh := reflect.New(reflect.TypeOf(p).Elem())
 			if json.Unmarshal([]byte(v), fresh.Interface()) == nil {
 				reflect.ValueOf(p).Elem().Set(fresh.Elem())
+			}
+		}
+		// a map (of picks, of flags) is never nil after loading and holds
+		// no nil entries, whatever the file said
+		if mv := reflect.ValueOf(p).Elem(); mv.Kind() == reflect.Map {
+			if mv.IsNil() {
+				mv.Set(reflect.MakeMap(mv.Type()))
+			}
+			if mv.Type().Elem().Kind() == reflect.Pointer {
+				for _, key := range mv.MapKeys() {
+					if mv.MapIndex(key).IsNil() {
+						mv.SetMapIndex(key, reflect.Value{})
+					}
+				}
 			}
 		}
 	}

@@ -129,3 +129,21 @@ func TestOpenDamagedAnalysisFile(t *testing.T) {
 		t.Errorf("error %v", last.Err)
 	}
 }
+
+// TestFormStateMaps: a saved form whose maps are null, missing or hold
+// null entries loads as empty or cleaned maps (a hand-edited file must
+// not leave a view with a nil map or a nil pick).
+func TestFormStateMaps(t *testing.T) {
+	var picks map[string]*driverPick
+	var free map[string]bool
+	fs := formState{objs: map[string]any{"picks": &picks, "free": &free}}
+	fs.load(map[string]string{"picks": `{"a": null, "b": {"On": true}}`, "free": "null"})
+	if picks == nil || free == nil || len(picks) != 1 || picks["b"] == nil || !picks["b"].On {
+		t.Errorf("picks %v, free %v", picks, free)
+	}
+	var missing map[string]bool
+	formState{objs: map[string]any{"x": &missing}}.load(nil)
+	if missing == nil {
+		t.Error("a map absent from the saved form stays nil")
+	}
+}

@@ -119,9 +119,6 @@ func (c *TrendsView) PageState() (map[string]string, []analysis.Analysis) {
 // (the change-point search in the background, as after a click).
 func (c *TrendsView) restore(st map[string]string) {
 	c.form().load(st)
-	if c.picked == nil {
-		c.picked = map[string]bool{}
-	}
 	c.refresh()
 	if st["shown_compare"] == "true" {
 		c.runCompare()
