@@ -9,11 +9,11 @@ import (
 
 // SingularValues returns the singular values of an n x p matrix (n >= p),
 // largest first, by the one-sided Jacobi method (Hestenes 1958; Demmel and
-// Veselic 1992): plane rotations make the columns mutually orthogonal,
-// and the singular values are then the column norms. It is accurate to a
-// few units of rounding relative to each value and, for the narrow design
-// matrices of this package, small and quick; it keeps gonum's general SVD
-// (which is much larger) out of the page.
+// Veselic 1992; both references from memory): plane rotations make the
+// columns mutually orthogonal, and the singular values are then the column
+// norms. It is accurate to a few units of rounding relative to each value
+// and, for the narrow design matrices of this package, small and quick; it
+// keeps gonum's general SVD (which is much larger) out of the page.
 func SingularValues(a mat.Matrix) []float64 {
 	n, p := a.Dims()
 	cols := make([][]float64, p)
